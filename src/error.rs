@@ -1,0 +1,218 @@
+//! The errors of ambit's core, as values. The SQL layer prefixes each with
+//! the function and the argument it came from; the text here says what was
+//! wrong and, where there is one, what to do about it.
+
+use std::fmt;
+
+/// Everything that can be wrong with a geometry handed to ambit.
+#[derive(Clone, Debug, PartialEq)]
+pub enum GeomError {
+    /// A zero-length blob.
+    EmptyBlob,
+    /// The first byte is neither GeoPackage magic nor a WKB byte order.
+    UnknownBlob {
+        first: u8,
+    },
+    /// The blob ended before a field of `needed` bytes at `offset`.
+    Truncated {
+        format: &'static str,
+        what: &'static str,
+        offset: usize,
+        needed: usize,
+        len: usize,
+    },
+    /// A WKB byte-order byte other than 0 or 1.
+    BadByteOrder {
+        byte: u8,
+        offset: usize,
+    },
+    /// A WKB type code outside the ISO set (1-7 plus 1000/2000/3000).
+    UnknownWkbType {
+        code: u32,
+        offset: usize,
+    },
+    /// A member of a multi-geometry of the wrong type.
+    WrongMemberType {
+        parent: &'static str,
+        expected: &'static str,
+        found: &'static str,
+        offset: usize,
+    },
+    /// A member whose Z/M dimensions differ from its collection's.
+    MixedDimensions {
+        offset: usize,
+    },
+    /// Bytes left over after a complete geometry.
+    TrailingBytes {
+        format: &'static str,
+        extra: usize,
+    },
+    /// A count that cannot fit in the rest of the blob.
+    ImpossibleCount {
+        what: &'static str,
+        count: u32,
+        offset: usize,
+    },
+    /// Collections nested deeper than [`crate::blob::MAX_NESTING`].
+    TooDeep {
+        limit: usize,
+    },
+    /// GeoPackage header problems.
+    GpkgVersion {
+        version: u8,
+    },
+    GpkgExtended,
+    GpkgEnvelopeCode {
+        code: u8,
+    },
+    GpkgReservedFlags {
+        flags: u8,
+    },
+    /// The GeoPackage empty flag contradicts the WKB content.
+    GpkgEmptyFlag {
+        flag_says_empty: bool,
+    },
+    /// A spatial reference ambit does not measure in.
+    UnsupportedSrs {
+        srs_id: i64,
+    },
+    /// NaN or infinity in an x or y ordinate.
+    NotFinite {
+        vertex: usize,
+    },
+    /// Coordinates outside the longitude/latitude ranges.
+    OutOfRange {
+        x: f64,
+        y: f64,
+        vertex: usize,
+    },
+    /// A line string with one vertex.
+    LineTooShort {
+        points: usize,
+    },
+    /// A ring with fewer than 4 vertices.
+    RingTooShort {
+        ring: usize,
+        points: usize,
+    },
+    /// A ring whose last vertex is not its first.
+    RingNotClosed {
+        ring: usize,
+    },
+    /// Malformed WKT, with the character offset and what was expected there.
+    Wkt {
+        position: usize,
+        message: String,
+    },
+    /// Malformed or unsupported GeoJSON.
+    GeoJson {
+        message: String,
+    },
+    /// A geometry of the wrong type for the operation (e.g. ST_X of a line).
+    WrongType {
+        expected: &'static str,
+        found: &'static str,
+    },
+}
+
+impl fmt::Display for GeomError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        use GeomError::*;
+        match self {
+            EmptyBlob => write!(f, "empty blob (0 bytes); expected a GeoPackage geometry or WKB"),
+            UnknownBlob { first } => write!(
+                f,
+                "not a geometry blob: first byte 0x{first:02x} is neither the GeoPackage magic 'GP' nor a WKB byte order (0 or 1)"
+            ),
+            Truncated { format, what, offset, needed, len } => write!(
+                f,
+                "truncated {format}: {what} needs {needed} bytes at byte {offset} but the blob has {len} bytes"
+            ),
+            BadByteOrder { byte, offset } => write!(
+                f,
+                "bad WKB byte-order byte 0x{byte:02x} at byte {offset} (must be 0 for big endian or 1 for little endian)"
+            ),
+            UnknownWkbType { code, offset } => {
+                write!(
+                    f,
+                    "unknown WKB geometry type code {code} at byte {offset} (ISO WKB codes are 1-7, plus 1000 for Z, 2000 for M, 3000 for ZM)"
+                )?;
+                if *code >= 0x1000_0000 {
+                    write!(f, "; this code has flag bits in its high byte, which ISO WKB does not use: write the data as ISO WKB")?;
+                }
+                Ok(())
+            }
+            WrongMemberType { parent, expected, found, offset } => write!(
+                f,
+                "a {parent} may hold only {expected} members, found a {found} at byte {offset}"
+            ),
+            MixedDimensions { offset } => write!(
+                f,
+                "the member at byte {offset} has other Z/M dimensions than its collection"
+            ),
+            TrailingBytes { format, extra } => write!(
+                f,
+                "{extra} unexpected bytes after the end of the {format} geometry"
+            ),
+            ImpossibleCount { what, count, offset } => write!(
+                f,
+                "corrupt WKB: {count} {what} announced at byte {offset} cannot fit in the blob"
+            ),
+            TooDeep { limit } => write!(
+                f,
+                "geometry collections nested deeper than {limit} levels"
+            ),
+            GpkgVersion { version } => write!(
+                f,
+                "GeoPackage geometry header version {version} is not supported (only 0, version 1)"
+            ),
+            GpkgExtended => write!(
+                f,
+                "ExtendedGeoPackageBinary geometry (flag X set) holds a user-defined type ambit cannot read; convert it to a standard geometry type"
+            ),
+            GpkgEnvelopeCode { code } => write!(
+                f,
+                "GeoPackage geometry header has invalid envelope contents code {code} (must be 0-4)"
+            ),
+            GpkgReservedFlags { flags } => write!(
+                f,
+                "GeoPackage geometry header flags 0x{flags:02x} set reserved bits 6-7"
+            ),
+            GpkgEmptyFlag { flag_says_empty } => write!(
+                f,
+                "GeoPackage header says the geometry is {} but its WKB {}",
+                if *flag_says_empty { "empty" } else { "not empty" },
+                if *flag_says_empty { "has vertices" } else { "is empty" }
+            ),
+            UnsupportedSrs { srs_id } => write!(
+                f,
+                "srs_id {srs_id} is not longitude/latitude; ambit measures on WGS84 (srs_id 4326, also 4269 and 0/-1 for undefined): reproject the data to EPSG:4326 first"
+            ),
+            NotFinite { vertex } => write!(
+                f,
+                "vertex {vertex} has a NaN or infinite coordinate; the data look corrupt"
+            ),
+            OutOfRange { x, y, vertex } => write!(
+                f,
+                "vertex {vertex} ({x}, {y}) is outside longitude [-540, 540] / latitude [-90, 90]: the coordinates look projected (reproject to EPSG:4326 longitude/latitude) or corrupt"
+            ),
+            LineTooShort { points } => write!(
+                f,
+                "a line string needs at least 2 points, this one has {points}"
+            ),
+            RingTooShort { ring, points } => write!(
+                f,
+                "ring {ring} has {points} points; a polygon ring needs at least 4 (closed: last point equal to the first)"
+            ),
+            RingNotClosed { ring } => write!(
+                f,
+                "ring {ring} is not closed: its last point must equal its first"
+            ),
+            Wkt { position, message } => write!(f, "malformed WKT at character {position}: {message}"),
+            GeoJson { message } => write!(f, "malformed GeoJSON: {message}"),
+            WrongType { expected, found } => write!(f, "expected a {expected}, got a {found}"),
+        }
+    }
+}
+
+impl std::error::Error for GeomError {}

@@ -1,0 +1,153 @@
+//! Reading SQL arguments into the core's types. Every error names the
+//! function, the argument (position and name) and what it got, e.g.
+//! `ST_X: argument 1 (geom) must be a geometry blob, got text 'POINT (1 2)';
+//! build one with ST_GeomFromText`.
+
+use rusqlite::functions::Context;
+use rusqlite::types::ValueRef;
+
+use crate::blob::{self, Decoded};
+use crate::sql::{error, SqlFunction};
+
+/// The arguments of one call of an SQL function.
+pub struct Args<'a> {
+    function: &'static SqlFunction,
+    ctx: &'a Context<'a>,
+}
+
+/// How an SQL value is described in an error message.
+fn describe(value: ValueRef<'_>) -> String {
+    match value {
+        ValueRef::Null => "NULL".to_string(),
+        ValueRef::Integer(i) => format!("integer {i}"),
+        ValueRef::Real(r) => format!("real {r}"),
+        ValueRef::Text(t) => {
+            let text = String::from_utf8_lossy(t);
+            let mut shown: String = text.chars().take(40).collect();
+            if shown.len() < text.len() {
+                shown.push_str("...");
+            }
+            format!("text '{shown}'")
+        }
+        ValueRef::Blob(b) => format!("a blob of {} bytes", b.len()),
+    }
+}
+
+impl<'a> Args<'a> {
+    pub(crate) fn new(function: &'static SqlFunction, ctx: &'a Context<'a>) -> Self {
+        Args { function, ctx }
+    }
+
+    /// The SQL name of the function being called.
+    pub fn name(&self) -> &'static str {
+        self.function.name
+    }
+
+    /// How many arguments were passed.
+    pub fn len(&self) -> usize {
+        self.ctx.len()
+    }
+
+    /// True when no argument was passed.
+    pub fn is_empty(&self) -> bool {
+        self.ctx.len() == 0
+    }
+
+    fn raw(&self, i: usize) -> ValueRef<'_> {
+        if i < self.ctx.len() {
+            self.ctx.get_raw(i)
+        } else {
+            ValueRef::Null
+        }
+    }
+
+    /// An error about the whole call.
+    pub fn fail(&self, message: impl std::fmt::Display) -> rusqlite::Error {
+        error(self.function.name, message)
+    }
+
+    /// An error about argument `i` (0-based): `argument 2 (y): ...`.
+    pub fn fail_arg(&self, i: usize, message: impl std::fmt::Display) -> rusqlite::Error {
+        let param = self.function.params.get(i).copied().unwrap_or("?");
+        self.fail(format!("argument {} ({param}): {message}", i + 1))
+    }
+
+    /// The blob of argument `i`; NULL (or an omitted argument) gives `None`.
+    pub fn blob(&self, i: usize) -> rusqlite::Result<Option<&[u8]>> {
+        match self.raw(i) {
+            ValueRef::Null => Ok(None),
+            ValueRef::Blob(b) => Ok(Some(b)),
+            ValueRef::Text(_) => Err(self.fail_arg(
+                i,
+                format!(
+                    "must be a geometry blob, got {}; build one with ST_GeomFromText or ambit_from_geojson",
+                    describe(self.raw(i))
+                ),
+            )),
+            other => Err(self.fail_arg(
+                i,
+                format!("must be a geometry blob, got {}", describe(other)),
+            )),
+        }
+    }
+
+    /// The geometry of argument `i`, decoded and checked for use (see
+    /// [`blob::decode_valid`]); NULL gives `None`.
+    pub fn geometry(&self, i: usize) -> rusqlite::Result<Option<Decoded>> {
+        match self.blob(i)? {
+            None => Ok(None),
+            Some(b) => blob::decode_valid(b)
+                .map(Some)
+                .map_err(|e| self.fail_arg(i, e)),
+        }
+    }
+
+    /// The geometry of argument `i`, decoded but not checked: for functions
+    /// that only describe a blob.
+    pub fn geometry_unchecked(&self, i: usize) -> rusqlite::Result<Option<Decoded>> {
+        match self.blob(i)? {
+            None => Ok(None),
+            Some(b) => blob::decode(b).map(Some).map_err(|e| self.fail_arg(i, e)),
+        }
+    }
+
+    /// The text of argument `i`; NULL gives `None`.
+    pub fn text(&self, i: usize) -> rusqlite::Result<Option<&str>> {
+        match self.raw(i) {
+            ValueRef::Null => Ok(None),
+            ValueRef::Text(t) => std::str::from_utf8(t)
+                .map(Some)
+                .map_err(|_| self.fail_arg(i, "is not valid UTF-8 text")),
+            other => Err(self.fail_arg(i, format!("must be text, got {}", describe(other)))),
+        }
+    }
+
+    /// The number of argument `i` (integer or real); NULL gives `None`.
+    /// NaN and infinities are refused.
+    pub fn number(&self, i: usize) -> rusqlite::Result<Option<f64>> {
+        let value = match self.raw(i) {
+            ValueRef::Null => return Ok(None),
+            ValueRef::Integer(v) => v as f64,
+            ValueRef::Real(v) => v,
+            other => {
+                return Err(self.fail_arg(i, format!("must be a number, got {}", describe(other))))
+            }
+        };
+        if value.is_finite() {
+            Ok(Some(value))
+        } else {
+            Err(self.fail_arg(i, format!("must be a finite number, got {value}")))
+        }
+    }
+
+    /// The integer of argument `i`; NULL gives `None`. A real with a
+    /// fractional part is refused.
+    pub fn integer(&self, i: usize) -> rusqlite::Result<Option<i64>> {
+        match self.raw(i) {
+            ValueRef::Null => Ok(None),
+            ValueRef::Integer(v) => Ok(Some(v)),
+            ValueRef::Real(v) if v.fract() == 0.0 && v.abs() < 9.0e15 => Ok(Some(v as i64)),
+            other => Err(self.fail_arg(i, format!("must be an integer, got {}", describe(other)))),
+        }
+    }
+}

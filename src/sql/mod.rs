@@ -1,0 +1,94 @@
+//! The SQL surface: the only module that knows SQLite. It converts SQL
+//! values to the core's types and back, and turns the core's errors into
+//! SQL errors that name the function, the argument and the problem. It
+//! computes no geometry itself.
+//!
+//! Every function is a row of [`FUNCTIONS`]: its SQL name, its parameter
+//! names (the last `optional` of them may be left out), whether it is
+//! deterministic, and its body. [`register`] walks that table.
+
+pub mod args;
+pub mod entry;
+pub mod info;
+pub mod io;
+pub mod units;
+
+use std::panic::{catch_unwind, AssertUnwindSafe};
+
+use rusqlite::functions::FunctionFlags;
+use rusqlite::types::Value;
+use rusqlite::Connection;
+
+pub use args::Args;
+
+/// The result of a function body: a value or an error message that already
+/// names the function.
+pub type SqlResult = Result<Value, rusqlite::Error>;
+
+/// One SQL function.
+pub struct SqlFunction {
+    /// The name users call it by.
+    pub name: &'static str,
+    /// Parameter names, used in error messages and in the reference.
+    pub params: &'static [&'static str],
+    /// How many of the trailing parameters may be left out.
+    pub optional: usize,
+    /// Same arguments, same result (lets SQLite factor calls out of loops).
+    pub deterministic: bool,
+    /// The body.
+    pub body: fn(&Args) -> SqlResult,
+}
+
+/// Every SQL function ambit registers, family by family.
+pub fn functions() -> impl Iterator<Item = &'static SqlFunction> {
+    [io::FUNCTIONS, units::FUNCTIONS, info::FUNCTIONS]
+        .into_iter()
+        .flatten()
+}
+
+/// An SQL error with a message a user can act on, `"<function>: <message>"`.
+pub fn error(function: &str, message: impl std::fmt::Display) -> rusqlite::Error {
+    rusqlite::Error::SqliteFailure(
+        rusqlite::ffi::Error::new(rusqlite::ffi::SQLITE_ERROR),
+        Some(format!("{function}: {message}")),
+    )
+}
+
+/// Registers every function of [`functions`] on `conn`, once per arity it
+/// accepts, so that SQLite itself refuses a wrong argument count.
+pub fn register(conn: &Connection) -> rusqlite::Result<()> {
+    for f in functions() {
+        let mut flags = FunctionFlags::SQLITE_UTF8;
+        if f.deterministic {
+            flags |= FunctionFlags::SQLITE_DETERMINISTIC | FunctionFlags::SQLITE_INNOCUOUS;
+        }
+        let most = f.params.len();
+        for arity in most - f.optional..=most {
+            let function: &'static SqlFunction = f;
+            conn.create_scalar_function(f.name, arity as i32, flags, move |ctx| {
+                call(function, ctx)
+            })?;
+        }
+    }
+    Ok(())
+}
+
+/// Runs a body; a panic (a bug in ambit) becomes an SQL error naming the
+/// function instead of crossing into SQLite.
+fn call(function: &'static SqlFunction, ctx: &rusqlite::functions::Context<'_>) -> SqlResult {
+    let args = Args::new(function, ctx);
+    match catch_unwind(AssertUnwindSafe(|| (function.body)(&args))) {
+        Ok(result) => result,
+        Err(panic) => {
+            let what = panic
+                .downcast_ref::<&str>()
+                .map(|s| s.to_string())
+                .or_else(|| panic.downcast_ref::<String>().cloned())
+                .unwrap_or_default();
+            Err(error(
+                function.name,
+                format!("internal error, please report it with the query that caused it: {what}"),
+            ))
+        }
+    }
+}
