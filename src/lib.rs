@@ -11,6 +11,9 @@ pub mod geometry;
 pub mod sql;
 pub mod units;
 
+#[doc(hidden)]
+pub mod testing;
+
 /// The SQLite entry point, `sqlite3_ambit_init`: the name SQLite derives
 /// from the library file `libambit.so`.
 ///

@@ -516,7 +516,7 @@ fn unknown_type(name: &str, what: &str) -> String {
 mod tests {
     use super::*;
     use crate::blob::wkt;
-    use crate::blob::wkt::tests::{random_geometry, XorShift};
+    use crate::testing::{random_geometry, XorShift};
 
     fn ok(text: &str) -> Geometry {
         match parse(text) {

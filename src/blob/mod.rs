@@ -46,6 +46,16 @@ pub struct Decoded {
 
 /// Decodes a GeoPackage or WKB blob without checking coordinates; for
 /// functions that only describe a blob.
+///
+/// # Example
+/// ```
+/// use ambit::blob::{decode, gpkg, wkt};
+/// let g = wkt::parse("LINESTRING (-131.5 38.4, -131.49 38.41)").unwrap();
+/// let blob = gpkg::write(&g, 4326);
+/// let back = decode(&blob).unwrap();
+/// assert_eq!(back.srs_id, 4326);
+/// assert_eq!(wkt::write(&back.geometry), "LINESTRING (-131.5 38.4, -131.49 38.41)");
+/// ```
 pub fn decode(buf: &[u8]) -> Result<Decoded, GeomError> {
     match encoding(buf)? {
         Encoding::GeoPackage => {
@@ -65,6 +75,16 @@ pub fn decode(buf: &[u8]) -> Result<Decoded, GeomError> {
 /// Decodes a blob and checks it as ambit requires before using it: a
 /// longitude/latitude srs_id, finite coordinates in range, closed rings of
 /// at least 4 points (see [`crate::geometry::validate`]).
+///
+/// # Example
+/// ```
+/// use ambit::blob::{decode_valid, gpkg};
+/// use ambit::geometry::Geometry;
+/// // Projected metres, not degrees: refused with a message saying so.
+/// let blob = gpkg::write(&Geometry::point(500000.0, 4500000.0), 4326);
+/// let err = decode_valid(&blob).unwrap_err().to_string();
+/// assert!(err.contains("look projected"));
+/// ```
 pub fn decode_valid(buf: &[u8]) -> Result<Decoded, GeomError> {
     let decoded = decode(buf)?;
     validate::validate(&decoded.geometry, decoded.srs_id.into())?;

@@ -704,8 +704,9 @@ fn settled_text(how: Settled) -> String {
 }
 
 #[cfg(test)]
-pub(crate) mod tests {
+mod tests {
     use super::*;
+    use crate::testing::{random_geometry, XorShift};
 
     fn ok(text: &str) -> Geometry {
         match parse(text) {
@@ -1020,68 +1021,6 @@ pub(crate) mod tests {
         assert_eq!(write(&g), text);
     }
 
-    /// xorshift64 (Marsaglia 2003): a tiny fixed-seed generator for the
-    /// property tests of both text codecs.
-    pub(crate) struct XorShift(pub u64);
-
-    impl XorShift {
-        pub(crate) fn next(&mut self) -> u64 {
-            let mut x = self.0;
-            x ^= x << 13;
-            x ^= x >> 7;
-            x ^= x << 17;
-            self.0 = x;
-            x
-        }
-
-        /// Uniform in 0..n (n > 0).
-        pub(crate) fn below(&mut self, n: u64) -> u64 {
-            self.next() % n
-        }
-    }
-
-    /// A random geometry of any of the seven types with `dims`; collections
-    /// nest up to `depth` more levels. `coord` makes each value. About one
-    /// part in six is empty.
-    pub(crate) fn random_geometry(
-        rng: &mut XorShift,
-        dims: Dimensions,
-        depth: usize,
-        coord: &mut dyn FnMut(&mut XorShift) -> f64,
-    ) -> Geometry {
-        let width = dims.width();
-        let mut part = |rng: &mut XorShift, min: u64| -> Part {
-            if rng.below(6) == 0 {
-                return Vec::new();
-            }
-            let n = min + rng.below(5);
-            (0..n as usize * width).map(|_| coord(rng)).collect()
-        };
-        let kinds = if depth == 0 { 6 } else { 7 };
-        let shape = match rng.below(kinds) {
-            0 => Shape::Point(part(rng, 1).into_iter().take(width).collect()),
-            1 => Shape::LineString(part(rng, 2)),
-            2 => Shape::Polygon((0..rng.below(3)).map(|_| part(rng, 4)).collect()),
-            3 => Shape::MultiPoint(
-                (0..rng.below(4))
-                    .map(|_| part(rng, 1).into_iter().take(width).collect())
-                    .collect(),
-            ),
-            4 => Shape::MultiLineString((0..rng.below(4)).map(|_| part(rng, 2)).collect()),
-            5 => Shape::MultiPolygon(
-                (0..rng.below(3))
-                    .map(|_| (0..rng.below(3)).map(|_| part(rng, 4)).collect())
-                    .collect(),
-            ),
-            _ => Shape::GeometryCollection(
-                (0..rng.below(4))
-                    .map(|_| random_geometry(rng, dims, depth - 1, coord))
-                    .collect(),
-            ),
-        };
-        Geometry::new(dims, shape)
-    }
-
     #[test]
     fn write_then_parse_is_identity_for_random_geometries() {
         let mut rng = XorShift(0x9E37_79B9_7F4A_7C15);
@@ -1092,7 +1031,7 @@ pub(crate) mod tests {
                 2 => -0.0,
                 // Any finite double: subnormals, huge values, long digits.
                 _ => loop {
-                    let x = f64::from_bits(rng.next());
+                    let x = f64::from_bits(rng.next_u64());
                     if x.is_finite() {
                         break x;
                     }

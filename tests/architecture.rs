@@ -1,0 +1,46 @@
+//! The layering of DEVELOPERS.md, checked: only the SQL surface (src/sql/)
+//! and the entry point (src/lib.rs) know SQLite, and `unsafe` appears only
+//! in the entry point code.
+
+use std::path::Path;
+
+fn sources(dir: &Path, out: &mut Vec<std::path::PathBuf>) {
+    for entry in std::fs::read_dir(dir).unwrap() {
+        let path = entry.unwrap().path();
+        if path.is_dir() {
+            sources(&path, out);
+        } else if path.extension().is_some_and(|e| e == "rs") {
+            out.push(path);
+        }
+    }
+}
+
+#[test]
+fn only_the_sql_layer_imports_rusqlite_and_only_the_entry_point_is_unsafe() {
+    let root = Path::new(env!("CARGO_MANIFEST_DIR"));
+    let mut files = Vec::new();
+    sources(&root.join("src"), &mut files);
+    assert!(files.len() > 10);
+    for file in files {
+        let rel = file
+            .strip_prefix(root)
+            .unwrap()
+            .to_string_lossy()
+            .into_owned();
+        let text = std::fs::read_to_string(&file).unwrap();
+        let sql_side = rel.starts_with("src/sql/") || rel == "src/lib.rs";
+        if !sql_side {
+            assert!(
+                !text.contains("rusqlite"),
+                "{rel} uses rusqlite; only src/sql/ may (keep the core pure)"
+            );
+        }
+        let entry = rel == "src/sql/entry.rs" || rel == "src/lib.rs";
+        if !entry {
+            assert!(
+                !text.contains("unsafe "),
+                "{rel} uses unsafe; only the FFI entry point may"
+            );
+        }
+    }
+}
