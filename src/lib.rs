@@ -7,6 +7,7 @@
 
 pub mod blob;
 pub mod error;
+pub mod geodesy;
 pub mod geometry;
 pub mod sql;
 pub mod units;
