@@ -9,6 +9,7 @@ pub mod blob;
 pub mod error;
 pub mod geodesy;
 pub mod geometry;
+pub mod proximity;
 pub mod sql;
 pub mod units;
 

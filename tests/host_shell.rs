@@ -25,6 +25,10 @@ const FUNCTIONS: &[&str] = &[
     "ST_IsEmpty",
     "ambit_from_geojson",
     "ambit_to_geojson",
+    "ambit_distance",
+    "ambit_within",
+    "ambit_area",
+    "ambit_length",
     "ambit_miles",
     "ambit_feet",
     "ambit_km",
@@ -70,6 +74,13 @@ fn null_in_null_out_for_every_geometry_function() {
         "ambit_from_geojson(NULL)",
         "ambit_to_geojson(NULL)",
         "ambit_to_geojson(NULL, 3)",
+        "ambit_distance(NULL, ST_Point(1, 2))",
+        "ambit_distance(ST_Point(1, 2), NULL)",
+        "ambit_distance(ST_GeomFromText('POINT EMPTY'), ST_Point(1, 2))",
+        "ambit_within(NULL, ST_Point(1, 2), 5)",
+        "ambit_within(ST_Point(1, 2), ST_Point(1, 2), NULL)",
+        "ambit_area(NULL)",
+        "ambit_length(NULL)",
         "ambit_miles(NULL)",
         "ambit_feet(NULL)",
         "ambit_km(NULL)",
@@ -201,6 +212,22 @@ const BAD_INPUTS: &[Bad] = &[
     Bad {
         sql: "SELECT ST_GeomFromWKB(ST_Point(1, 2), 4269);",
         message: &["ST_GeomFromWKB: argument 2 (srid): is 4269 but the GeoPackage blob already carries srs_id 4326"],
+    },
+    Bad {
+        sql: "SELECT ambit_within(ST_Point(1, 2), ST_Point(1, 2), -5);",
+        message: &["ambit_within: argument 3 (metres): must be a distance of 0 or more metres, got -5"],
+    },
+    Bad {
+        sql: "SELECT ambit_within(ST_Point(1, 2), ST_Point(1, 2), 'far');",
+        message: &["ambit_within: argument 3 (metres): must be a number, got text 'far'"],
+    },
+    Bad {
+        sql: "SELECT ambit_distance(ST_Point(1, 2), x'47500001CE1300000101000000000000000000F03F0000000000000040');",
+        message: &["ambit_distance: argument 2 (b): srs_id 5070 is not longitude/latitude"],
+    },
+    Bad {
+        sql: "SELECT ambit_area('POLYGON ((0 0, 1 0, 1 1, 0 0))');",
+        message: &["ambit_area: argument 1 (geom): must be a geometry blob, got text"],
     },
     Bad {
         sql: "SELECT ambit_miles('half');",

@@ -98,3 +98,48 @@ pub fn line_length(coords: &[f64], width: usize) -> f64 {
     }
     total
 }
+
+/// Geodesic area of a geometry in square metres: for each polygon the area
+/// of its exterior ring less the areas of its holes (ring orientation does
+/// not matter), summed over polygons and collection members; 0 for points
+/// and lines and for empty geometries.
+///
+/// Accuracy: that of [`ring_area_perimeter`]. Expects a geometry that passed
+/// [`crate::geometry::validate`] (NaN otherwise).
+pub fn geometry_area(g: &crate::geometry::Geometry) -> f64 {
+    use crate::geometry::Shape;
+    let width = g.dims.width();
+    let polygon = |rings: &[Vec<f64>]| -> f64 {
+        let mut area = 0.0;
+        for (i, ring) in rings.iter().enumerate() {
+            let a = ring_area_perimeter(ring, width).0.abs();
+            area += if i == 0 { a } else { -a };
+        }
+        area
+    };
+    match &g.shape {
+        Shape::Polygon(rings) => polygon(rings),
+        Shape::MultiPolygon(polygons) => polygons.iter().map(|r| polygon(r)).sum(),
+        Shape::GeometryCollection(members) => members.iter().map(geometry_area).sum(),
+        _ => 0.0,
+    }
+}
+
+/// Geodesic length of a geometry in metres: the length of its line strings,
+/// plus the perimeter (all rings, holes included) of its polygons; 0 for
+/// points and for empty geometries.
+///
+/// Accuracy: Karney's inverse, 15 nm per edge (Karney 2013).
+pub fn geometry_length(g: &crate::geometry::Geometry) -> f64 {
+    use crate::geometry::Shape;
+    let width = g.dims.width();
+    let rings = |rings: &[Vec<f64>]| -> f64 { rings.iter().map(|r| line_length(r, width)).sum() };
+    match &g.shape {
+        Shape::LineString(p) => line_length(p, width),
+        Shape::MultiLineString(lines) => lines.iter().map(|p| line_length(p, width)).sum(),
+        Shape::Polygon(r) => rings(r),
+        Shape::MultiPolygon(polygons) => polygons.iter().map(|r| rings(r)).sum(),
+        Shape::GeometryCollection(members) => members.iter().map(geometry_length).sum(),
+        _ => 0.0,
+    }
+}

@@ -11,6 +11,7 @@ pub mod args;
 pub mod entry;
 pub mod info;
 pub mod io;
+pub mod measure;
 pub mod units;
 
 use std::panic::{catch_unwind, AssertUnwindSafe};
@@ -41,9 +42,14 @@ pub struct SqlFunction {
 
 /// Every SQL function ambit registers, family by family.
 pub fn functions() -> impl Iterator<Item = &'static SqlFunction> {
-    [io::FUNCTIONS, units::FUNCTIONS, info::FUNCTIONS]
-        .into_iter()
-        .flatten()
+    [
+        io::FUNCTIONS,
+        measure::FUNCTIONS,
+        units::FUNCTIONS,
+        info::FUNCTIONS,
+    ]
+    .into_iter()
+    .flatten()
 }
 
 /// An SQL error with a message a user can act on, `"<function>: <message>"`.

@@ -1,0 +1,299 @@
+//! A geometry prepared for measuring: its vertices as (lon, lat) pairs,
+//! split into isolated points, line strings and polygons, with a bounding
+//! ball around every edge and around the whole geometry.
+//!
+//! A bounding ball is a centre and a radius in metres such that every point
+//! of the element (a vertex, or every point of a geodesic edge) lies within
+//! that geodesic distance of the centre. For an edge the centre is the
+//! longitude/latitude midpoint of its ends and the radius the larger
+//! distance from it to either end: geodesic balls of radius well below the
+//! convexity radius of the ellipsoid (thousands of kilometres) contain the
+//! geodesic between any two of their points. Radii are rounded up by the
+//! local metric's error bound, so they never understate. Balls larger than
+//! [`MAX_BALL_RADIUS`] are given an infinite radius (no pruning).
+//!
+//! Lower bounds on distances between elements come from their balls:
+//! `d(c1, c2) - r1 - r2 <= d(x1, x2)` for any points of the two elements
+//! (triangle inequality), so a pair whose lower bound exceeds the distance
+//! asked about is skipped without an exact computation.
+
+use crate::geodesy::{inverse, local};
+use crate::geometry::{Geometry, Shape};
+
+/// A (longitude, latitude) pair in degrees.
+pub type LonLat = (f64, f64);
+
+/// Balls larger than this (metres) are treated as unbounded.
+pub const MAX_BALL_RADIUS: f64 = 2_000_000.0;
+
+/// A centre and a radius (metres) enclosing an element.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Ball {
+    pub centre: LonLat,
+    pub radius: f64,
+}
+
+/// Longitude difference `b - a` reduced to (-180, 180].
+pub fn wrap_delta(a: f64, b: f64) -> f64 {
+    let d = (b - a) % 360.0;
+    if d > 180.0 {
+        d - 360.0
+    } else if d <= -180.0 {
+        d + 360.0
+    } else {
+        d
+    }
+}
+
+/// An upper bound on the geodesic distance between two points (metres):
+/// the local metric plus its error bound where that is finite, otherwise
+/// the exact distance.
+pub fn distance_upper(p: LonLat, q: LonLat) -> f64 {
+    let (d, bound) = local::local_distance_with_bound(p, q);
+    if bound.is_finite() {
+        d + bound
+    } else {
+        inverse::distance(p.0, p.1, q.0, q.1)
+    }
+}
+
+/// A lower bound on the geodesic distance between two points (metres).
+pub fn distance_lower(p: LonLat, q: LonLat) -> f64 {
+    let (d, bound) = local::local_distance_with_bound(p, q);
+    if bound.is_finite() {
+        (d - bound).max(0.0)
+    } else {
+        inverse::distance(p.0, p.1, q.0, q.1)
+    }
+}
+
+impl Ball {
+    /// The ball of one point.
+    pub fn point(p: LonLat) -> Ball {
+        Ball {
+            centre: p,
+            radius: 0.0,
+        }
+    }
+
+    /// A ball around the geodesic edge a-b.
+    pub fn edge(a: LonLat, b: LonLat) -> Ball {
+        let centre = (a.0 + wrap_delta(a.0, b.0) / 2.0, (a.1 + b.1) / 2.0);
+        let radius = distance_upper(centre, a).max(distance_upper(centre, b));
+        Ball {
+            centre,
+            radius: if radius > MAX_BALL_RADIUS {
+                f64::INFINITY
+            } else {
+                radius
+            },
+        }
+    }
+
+    /// A lower bound on the distance between any point of `self` and any
+    /// point of `other` (may be negative when the balls overlap).
+    pub fn gap(&self, other: &Ball) -> f64 {
+        if self.radius.is_infinite() || other.radius.is_infinite() {
+            return f64::NEG_INFINITY;
+        }
+        distance_lower(self.centre, other.centre) - self.radius - other.radius
+    }
+}
+
+/// One measurable element: an isolated point or a geodesic edge.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum Element {
+    Point(LonLat),
+    Edge(LonLat, LonLat),
+}
+
+/// A geometry ready for distance queries.
+#[derive(Clone, Debug, Default)]
+pub struct Prepared {
+    /// Isolated points (of points and multipoints).
+    pub points: Vec<LonLat>,
+    /// Line strings, each of 2 or more vertices.
+    pub lines: Vec<Vec<LonLat>>,
+    /// Polygons, each a list of closed rings (the first is the exterior).
+    pub polygons: Vec<Vec<Vec<LonLat>>>,
+    /// Every element with its ball.
+    pub elements: Vec<(Element, Ball)>,
+    /// A ball around the whole geometry (`None` when empty).
+    pub ball: Option<Ball>,
+}
+
+fn lonlat(part: &[f64], width: usize) -> Vec<LonLat> {
+    part.chunks_exact(width).map(|v| (v[0], v[1])).collect()
+}
+
+impl Prepared {
+    /// Prepares a geometry that has passed [`crate::geometry::validate`].
+    /// Empty parts are dropped.
+    pub fn new(g: &Geometry) -> Prepared {
+        let mut p = Prepared::default();
+        p.add(g);
+        p.index();
+        p
+    }
+
+    fn add(&mut self, g: &Geometry) {
+        let width = g.dims.width();
+        let add_polygon = |rings: &[Vec<f64>], this: &mut Prepared| {
+            let rings: Vec<Vec<LonLat>> = rings
+                .iter()
+                .filter(|r| !r.is_empty())
+                .map(|r| lonlat(r, width))
+                .collect();
+            if !rings.is_empty() {
+                this.polygons.push(rings);
+            }
+        };
+        match &g.shape {
+            Shape::Point(v) if !v.is_empty() => self.points.push((v[0], v[1])),
+            Shape::Point(_) => {}
+            Shape::LineString(v) => {
+                if !v.is_empty() {
+                    self.lines.push(lonlat(v, width));
+                }
+            }
+            Shape::Polygon(rings) => add_polygon(rings, self),
+            Shape::MultiPoint(points) => {
+                for v in points.iter().filter(|v| !v.is_empty()) {
+                    self.points.push((v[0], v[1]));
+                }
+            }
+            Shape::MultiLineString(lines) => {
+                for v in lines.iter().filter(|v| !v.is_empty()) {
+                    self.lines.push(lonlat(v, width));
+                }
+            }
+            Shape::MultiPolygon(polygons) => {
+                for rings in polygons {
+                    add_polygon(rings, self);
+                }
+            }
+            Shape::GeometryCollection(members) => {
+                for m in members {
+                    self.add(m);
+                }
+            }
+        }
+    }
+
+    fn index(&mut self) {
+        let mut elements = Vec::new();
+        for &p in &self.points {
+            elements.push((Element::Point(p), Ball::point(p)));
+        }
+        let chains = self.lines.iter().chain(self.polygons.iter().flatten());
+        for chain in chains {
+            for w in chain.windows(2) {
+                elements.push((Element::Edge(w[0], w[1]), Ball::edge(w[0], w[1])));
+            }
+        }
+        self.ball = whole_ball(&elements);
+        self.elements = elements;
+    }
+
+    /// True when the geometry has no vertex.
+    pub fn is_empty(&self) -> bool {
+        self.elements.is_empty()
+    }
+
+    /// The vertices from which containment is probed: every isolated point
+    /// and the first vertex of every line and ring. If no probe of one
+    /// geometry lies inside the other and no edges cross, neither contains
+    /// any part of the other.
+    pub fn probes(&self) -> impl Iterator<Item = LonLat> + '_ {
+        self.points.iter().copied().chain(
+            self.lines
+                .iter()
+                .chain(self.polygons.iter().flatten())
+                .map(|chain| chain[0]),
+        )
+    }
+}
+
+/// A ball around all elements: centred on the middle of their centres'
+/// longitude/latitude box (longitudes unwrapped around the first centre).
+fn whole_ball(elements: &[(Element, Ball)]) -> Option<Ball> {
+    let first = elements.first()?.1.centre;
+    let (mut lo_x, mut hi_x, mut lo_y, mut hi_y) = (0.0f64, 0.0f64, first.1, first.1);
+    for (_, b) in elements {
+        let x = wrap_delta(first.0, b.centre.0);
+        lo_x = lo_x.min(x);
+        hi_x = hi_x.max(x);
+        lo_y = lo_y.min(b.centre.1);
+        hi_y = hi_y.max(b.centre.1);
+    }
+    let centre = (first.0 + (lo_x + hi_x) / 2.0, (lo_y + hi_y) / 2.0);
+    let mut radius = 0.0f64;
+    for (_, b) in elements {
+        radius = radius.max(distance_upper(centre, b.centre) + b.radius);
+    }
+    Some(Ball {
+        centre,
+        radius: if radius > MAX_BALL_RADIUS || radius.is_nan() {
+            f64::INFINITY
+        } else {
+            radius
+        },
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::blob::wkt;
+
+    #[test]
+    fn splits_a_collection_into_points_lines_and_polygons() {
+        let g = wkt::parse(
+            "GEOMETRYCOLLECTION (POINT (1 2), LINESTRING (0 0, 1 1, 2 1), \
+             POLYGON ((0 0, 1 0, 1 1, 0 0)), POINT EMPTY)",
+        )
+        .unwrap();
+        let p = Prepared::new(&g);
+        assert_eq!(p.points, vec![(1.0, 2.0)]);
+        assert_eq!(p.lines.len(), 1);
+        assert_eq!(p.polygons.len(), 1);
+        assert_eq!(p.elements.len(), 1 + 2 + 3);
+        assert_eq!(p.probes().count(), 3);
+    }
+
+    #[test]
+    fn edge_balls_contain_their_edges() {
+        // Every sampled point of the geodesic edge lies inside the ball
+        // (checked with the exact inverse).
+        let g = inverse::wgs84();
+        for (a, b) in [
+            ((-131.5, 38.4), (-131.2, 38.9)),
+            ((179.9, -16.0), (-179.8, -16.1)),
+            ((10.0, 79.0), (12.0, 79.5)),
+        ] {
+            let ball = Ball::edge(a, b);
+            let (s12, azi1, _, _): (f64, f64, f64, f64) =
+                geographiclib_rs::InverseGeodesic::inverse(g, a.1, a.0, b.1, b.0);
+            for i in 0..=100 {
+                let (lat, lon): (f64, f64) = geographiclib_rs::DirectGeodesic::direct(
+                    g,
+                    a.1,
+                    a.0,
+                    azi1,
+                    s12 * i as f64 / 100.0,
+                );
+                let d = inverse::distance(ball.centre.0, ball.centre.1, lon, lat);
+                assert!(d <= ball.radius, "{d} > {}", ball.radius);
+            }
+        }
+    }
+
+    #[test]
+    fn wrap_delta_reduces_to_a_half_open_range() {
+        assert_eq!(wrap_delta(179.0, -179.0), 2.0);
+        assert_eq!(wrap_delta(-179.0, 179.0), -2.0);
+        assert_eq!(wrap_delta(0.0, 180.0), 180.0);
+        assert_eq!(wrap_delta(0.0, -180.0), 180.0);
+        assert_eq!(wrap_delta(10.0, 370.0), 0.0);
+    }
+}

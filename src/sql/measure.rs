@@ -1,0 +1,91 @@
+//! Geodesic measures on WGS84: ambit_distance, ambit_within, ambit_area,
+//! ambit_length. The computations are in crate::proximity and
+//! crate::geodesy; this file converts values and reports errors.
+
+use rusqlite::types::Value;
+
+use crate::geodesy::area;
+use crate::proximity::{self, Prepared};
+use crate::sql::{Args, SqlFunction, SqlResult};
+
+pub const FUNCTIONS: &[SqlFunction] = &[
+    SqlFunction {
+        name: "ambit_distance",
+        params: &["a", "b"],
+        optional: 0,
+        deterministic: true,
+        body: distance,
+    },
+    SqlFunction {
+        name: "ambit_within",
+        params: &["a", "b", "metres"],
+        optional: 0,
+        deterministic: true,
+        body: within,
+    },
+    SqlFunction {
+        name: "ambit_area",
+        params: &["geom"],
+        optional: 0,
+        deterministic: true,
+        body: area_m2,
+    },
+    SqlFunction {
+        name: "ambit_length",
+        params: &["geom"],
+        optional: 0,
+        deterministic: true,
+        body: length_m,
+    },
+];
+
+/// Both geometries prepared, or `None` if either is NULL.
+fn pair(args: &Args) -> rusqlite::Result<Option<(Prepared, Prepared)>> {
+    let (Some(a), Some(b)) = (args.geometry(0)?, args.geometry(1)?) else {
+        return Ok(None);
+    };
+    Ok(Some((
+        Prepared::new(&a.geometry),
+        Prepared::new(&b.geometry),
+    )))
+}
+
+fn distance(args: &Args) -> SqlResult {
+    Ok(match pair(args)? {
+        Some((a, b)) => proximity::distance(&a, &b).map_or(Value::Null, Value::Real),
+        None => Value::Null,
+    })
+}
+
+fn within(args: &Args) -> SqlResult {
+    let metres = args.number(2)?;
+    if let Some(m) = metres {
+        if m < 0.0 {
+            return Err(args.fail_arg(
+                2,
+                format!("must be a distance of 0 or more metres, got {m}"),
+            ));
+        }
+    }
+    let Some(metres) = metres else {
+        return Ok(Value::Null);
+    };
+    Ok(match pair(args)? {
+        Some((a, b)) => Value::Integer(proximity::within(&a, &b, metres).into()),
+        None => Value::Null,
+    })
+}
+
+fn area_m2(args: &Args) -> SqlResult {
+    Ok(match args.geometry(0)? {
+        Some(d) => Value::Real(area::geometry_area(&d.geometry)),
+        None => Value::Null,
+    })
+}
+
+fn length_m(args: &Args) -> SqlResult {
+    Ok(match args.geometry(0)? {
+        Some(d) => Value::Real(area::geometry_length(&d.geometry)),
+        None => Value::Null,
+    })
+}
