@@ -64,6 +64,14 @@ pub fn info_json() -> serde_json::Value {
             "geojson_default_decimals": geojson::DEFAULT_DECIMALS,
             "max_collection_nesting": MAX_NESTING,
         },
+        "methods": {
+            "distance": "Karney 2013 geodesic inverse (geographiclib-rs 0.2.7), 15 nm",
+            "point_to_edge": "ellipsoidal gnomonic interception, Karney 2013 section 8",
+            "edge_to_edge": "0 if the geodesic edges cross, else the least end-to-edge distance",
+            "within_fast_path": "flat ellipsoid at mid-latitude with error bound 2 d^3 (1 + tan^2 lat) / (8 a^2) + 5e-8 m, |lat| <= 80, d <= 50 km",
+            "area": "Karney 2013 section 6 (geographiclib-rs PolygonArea)",
+            "edges": "geodesics",
+        },
         "threads": rayon::current_num_threads(),
     })
 }
