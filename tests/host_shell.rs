@@ -29,6 +29,11 @@ const FUNCTIONS: &[&str] = &[
     "ambit_within",
     "ambit_area",
     "ambit_length",
+    "ambit_layer",
+    "ambit_layer_drop",
+    "ambit_reached",
+    "ambit_nearest",
+    "ambit_count",
     "ambit_miles",
     "ambit_feet",
     "ambit_km",
@@ -47,7 +52,17 @@ fn registers_the_vocabulary_deterministic_where_it_is() {
     let mut expected: Vec<String> = FUNCTIONS
         .iter()
         .map(|f| {
-            let deterministic = *f != "ambit_info";
+            // Layer functions depend on the connection's layers, and
+            // ambit_info on the thread pool.
+            let deterministic = !matches!(
+                *f,
+                "ambit_info"
+                    | "ambit_layer"
+                    | "ambit_layer_drop"
+                    | "ambit_reached"
+                    | "ambit_nearest"
+                    | "ambit_count"
+            );
             format!("{}|{}", f.to_lowercase(), deterministic as i32)
         })
         .collect();

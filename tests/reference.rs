@@ -62,7 +62,8 @@ fn the_reference_documents_exactly_the_registered_functions() {
         .collect();
     let registered: BTreeSet<String> = common::query(
         "SELECT DISTINCT name FROM pragma_function_list \
-         WHERE name LIKE 'st\\_%' ESCAPE '\\' OR name LIKE 'ambit\\_%' ESCAPE '\\';",
+         WHERE name LIKE 'st\\_%' ESCAPE '\\' OR name LIKE 'ambit\\_%' ESCAPE '\\' \
+         UNION SELECT name FROM pragma_module_list WHERE name LIKE 'ambit\\_%' ESCAPE '\\';",
     )
     .lines()
     .map(str::to_string)

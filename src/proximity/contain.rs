@@ -32,7 +32,8 @@
 use geographiclib_rs::{DirectGeodesic, InverseGeodesic};
 
 use crate::geodesy::{ellipsoid, inverse};
-use crate::proximity::prepared::{wrap_delta, LonLat};
+use crate::proximity::boxes::LonLatBox;
+use crate::proximity::prepared::{wrap_delta, Element, LonLat, Prepared};
 
 /// Edges wider than this (degrees of longitude) skip the chord estimate.
 pub const CHORD_MAX_SPAN: f64 = 2.0;
@@ -56,25 +57,61 @@ pub fn point_in_polygon(p: LonLat, rings: &[Vec<LonLat>]) -> bool {
 /// Parity of crossings of the northward meridian through `p` with a closed
 /// ring.
 pub fn point_in_ring(p: LonLat, ring: &[LonLat]) -> bool {
-    let mut inside = false;
+    let crossings = ring
+        .windows(2)
+        .filter(|w| meridian_crosses(p, w[0], w[1]))
+        .count();
+    (crossings % 2 == 1) != encloses_north_pole(ring)
+}
+
+/// True when the ring's longitudes wind a full turn and its vertices lie
+/// on average north of the equator: it encloses the north pole.
+pub fn encloses_north_pole(ring: &[LonLat]) -> bool {
     let mut winding = 0.0;
     let mut lat_sum = 0.0;
     for w in ring.windows(2) {
-        let (a, b) = (w[0], w[1]);
-        let span = wrap_delta(a.0, b.0);
-        winding += span;
-        lat_sum += a.1;
-        // Longitudes of a and b relative to p, unwrapped along the edge.
-        let da = wrap_delta(p.0, a.0);
-        let db = da + span;
-        let straddles = (da <= 0.0 && 0.0 < db) || (db <= 0.0 && 0.0 < da);
-        if straddles && edge_latitude_is_north(p, a, b, da, span) {
-            inside = !inside;
+        winding += wrap_delta(w[0].0, w[1].0);
+        lat_sum += w[0].1;
+    }
+    winding.abs() > 180.0 && lat_sum > 0.0
+}
+
+/// True when the northward meridian from `p` crosses the geodesic edge a-b
+/// (half-open in longitude, so a vertex on the meridian counts once).
+pub fn meridian_crosses(p: LonLat, a: LonLat, b: LonLat) -> bool {
+    let span = wrap_delta(a.0, b.0);
+    // Longitudes of a and b relative to p, unwrapped along the edge.
+    let da = wrap_delta(p.0, a.0);
+    let db = da + span;
+    let straddles = (da <= 0.0 && 0.0 < db) || (db <= 0.0 && 0.0 < da);
+    straddles && edge_latitude_is_north(p, a, b, da, span)
+}
+
+/// True when `p` lies inside some polygon of the prepared geometry `g`
+/// (only the edges whose boxes meet the northward meridian from `p` are
+/// tested when `g` has an element index).
+pub fn point_in_prepared(p: LonLat, g: &Prepared) -> bool {
+    if g.polygons.is_empty() {
+        return false;
+    }
+    let mut parity: Vec<Vec<bool>> = g.north_pole_rings.clone();
+    let ray = LonLatBox {
+        lon_lo: p.0,
+        lon_hi: p.0,
+        lat_lo: p.1,
+        lat_hi: 90.0,
+    };
+    for i in g.elements_near(&ray) {
+        if let (Some(owner), Element::Edge(a, b)) = (g.owners[i], g.elements[i].0) {
+            if meridian_crosses(p, a, b) {
+                let flag = &mut parity[owner.polygon as usize][owner.ring as usize];
+                *flag = !*flag;
+            }
         }
     }
-    let encloses_north_pole =
-        winding.abs() > 180.0 && lat_sum / (ring.len().max(2) - 1) as f64 > 0.0;
-    inside != encloses_north_pole
+    parity
+        .iter()
+        .any(|rings| rings.iter().fold(false, |inside, &r| inside != r))
 }
 
 /// True when the geodesic a-b, at the longitude of `p`, is north of `p`.

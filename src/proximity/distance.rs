@@ -25,7 +25,8 @@
 //! (elements up to 1000 km apart).
 
 use crate::geodesy::{inverse, local, segment};
-use crate::proximity::contain::point_in_polygon;
+use crate::proximity::boxes::LonLatBox;
+use crate::proximity::contain::point_in_prepared;
 use crate::proximity::prepared::{distance_upper, Element, LonLat, Prepared};
 
 /// How a within test was decided, for measuring the fast path.
@@ -64,8 +65,30 @@ fn probes_inside(a: &Prepared, b: &Prepared, work: &mut Work) -> bool {
     }
     a.probes().any(|p| {
         work.probes += 1;
-        b.polygons.iter().any(|rings| point_in_polygon(p, rings))
+        point_in_prepared(p, b)
     })
+}
+
+/// The element pairs of `a` and `b` that may lie within `cap` of each
+/// other, by their boxes: through the element index of the larger
+/// geometry when it has one, else all pairs.
+fn candidate_pairs(a: &Prepared, b: &Prepared, cap: f64) -> Vec<(usize, usize)> {
+    let (small, large, swapped) = if a.elements.len() <= b.elements.len() {
+        (a, b, false)
+    } else {
+        (b, a, true)
+    };
+    let mut pairs = Vec::new();
+    for (i, (_, ball)) in small.elements.iter().enumerate() {
+        let near = match &large.index {
+            Some(_) if cap.is_finite() => large.elements_near(&LonLatBox::around(ball, cap)),
+            _ => (0..large.elements.len()).collect(),
+        };
+        for j in near {
+            pairs.push(if swapped { (j, i) } else { (i, j) });
+        }
+    }
+    pairs
 }
 
 /// The search behind [`distance`] and [`within`]. Returns the exact minimum
@@ -83,32 +106,32 @@ fn search(a: &Prepared, b: &Prepared, cap: f64, first_hit: bool, work: &mut Work
     if gap <= 0.0 && (probes_inside(a, b, work) || probes_inside(b, a, work)) {
         return 0.0;
     }
-    // Candidate pairs, skipping whole rows whose element is too far from
-    // the other geometry.
-    let mut best = f64::INFINITY;
+    // Any pair of vertices bounds the minimum from above, which bounds the
+    // pairs worth looking at.
+    let first = |p: &Prepared| vertices(&p.elements[0].0)[0];
+    let mut best = distance_upper(first(a), first(b));
+    if first_hit && best <= cap {
+        return best;
+    }
+    let reach = cap.min(best);
     let mut pairs: Vec<(f64, usize, usize)> = Vec::new();
-    for (i, (ea, ba)) in a.elements.iter().enumerate() {
-        if ba.gap(&ball_b) > cap {
+    for (i, j) in candidate_pairs(a, b, reach) {
+        let ((ea, ba), (eb, bb)) = (&a.elements[i], &b.elements[j]);
+        let lower = ba.gap(bb).max(0.0);
+        if lower > reach.min(best) {
             continue;
         }
-        for (j, (eb, bb)) in b.elements.iter().enumerate() {
-            let lower = ba.gap(bb).max(0.0);
-            if lower > cap {
-                continue;
+        if let (Element::Point(p), Element::Point(q)) = (ea, eb) {
+            if first_hit && local::within_fast(*p, *q, cap) == Some(true) {
+                return distance_upper(*p, *q).min(cap);
             }
-            if let (Element::Point(p), Element::Point(q)) = (ea, eb) {
-                if first_hit && local::within_fast(*p, *q, cap) == Some(true) {
-                    return distance_upper(*p, *q).min(cap);
-                }
-            }
-            // Any pair of actual vertices bounds the minimum from above.
-            let upper = distance_upper(vertices(ea)[0], vertices(eb)[0]);
-            if first_hit && upper <= cap {
-                return upper;
-            }
-            best = best.min(upper);
-            pairs.push((lower, i, j));
         }
+        let upper = distance_upper(vertices(ea)[0], vertices(eb)[0]);
+        if first_hit && upper <= cap {
+            return upper;
+        }
+        best = best.min(upper);
+        pairs.push((lower, i, j));
     }
     pairs.sort_by(|x, y| x.0.total_cmp(&y.0));
     let mut best_exact = f64::INFINITY;
@@ -141,6 +164,18 @@ pub fn distance(a: &Prepared, b: &Prepared) -> Option<f64> {
         return None;
     }
     Some(search(a, b, f64::INFINITY, false, &mut Work::default()))
+}
+
+/// The exact geodesic minimum distance between `a` and `b` when it is at
+/// most `cap` metres, else `None` (also when either is empty). Cheaper
+/// than [`distance`] for a small `cap`: elements farther apart are never
+/// computed.
+pub fn distance_within(a: &Prepared, b: &Prepared, cap: f64) -> Option<f64> {
+    if a.is_empty() || b.is_empty() {
+        return None;
+    }
+    let d = search(a, b, cap, false, &mut Work::default());
+    (d <= cap).then_some(d)
 }
 
 /// True when the geodesic minimum distance between `a` and `b` is at most

@@ -2,9 +2,12 @@
 //! with bounding balls ([`prepared`]), point in polygon with geodesic edges
 //! ([`contain`]), and minimum distance / within-distance ([`distance`]).
 
+pub mod boxes;
 pub mod contain;
 pub mod distance;
+pub mod layer;
 pub mod prepared;
 
-pub use distance::{distance, within, within_counted, Work};
+pub use distance::{distance, distance_within, within, within_counted, Work};
+pub use layer::{Feature, Layer};
 pub use prepared::Prepared;

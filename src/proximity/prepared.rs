@@ -17,8 +17,12 @@
 //! (triangle inequality), so a pair whose lower bound exceeds the distance
 //! asked about is skipped without an exact computation.
 
+use rstar::primitives::{GeomWithData, Rectangle};
+use rstar::{RTree, AABB};
+
 use crate::geodesy::{inverse, local};
 use crate::geometry::{Geometry, Shape};
+use crate::proximity::boxes::LonLatBox;
 
 /// A (longitude, latitude) pair in degrees.
 pub type LonLat = (f64, f64);
@@ -107,6 +111,20 @@ pub enum Element {
     Edge(LonLat, LonLat),
 }
 
+/// Geometries with more elements than this get an R*-tree of their
+/// elements, so that a query near one part does not scan all its edges.
+pub const ELEMENT_INDEX_MIN: usize = 128;
+
+/// An R*-tree entry: an element's box and its position in `elements`.
+pub type IndexEntry = GeomWithData<Rectangle<[f64; 2]>, u32>;
+
+/// Which polygon and ring an edge belongs to.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct RingRef {
+    pub polygon: u32,
+    pub ring: u32,
+}
+
 /// A geometry ready for distance queries.
 #[derive(Clone, Debug, Default)]
 pub struct Prepared {
@@ -116,10 +134,20 @@ pub struct Prepared {
     pub lines: Vec<Vec<LonLat>>,
     /// Polygons, each a list of closed rings (the first is the exterior).
     pub polygons: Vec<Vec<Vec<LonLat>>>,
+    /// For each polygon and ring: does the ring enclose the north pole
+    /// (see [`crate::proximity::contain`]).
+    pub north_pole_rings: Vec<Vec<bool>>,
     /// Every element with its ball.
     pub elements: Vec<(Element, Ball)>,
+    /// For each element, the ring it bounds (`None` for points and line
+    /// edges).
+    pub owners: Vec<Option<RingRef>>,
     /// A ball around the whole geometry (`None` when empty).
     pub ball: Option<Ball>,
+    /// A box around the whole geometry, unwrapped (`None` when empty).
+    pub bbox: Option<LonLatBox>,
+    /// The element index of a large geometry.
+    pub index: Option<RTree<IndexEntry>>,
 }
 
 fn lonlat(part: &[f64], width: usize) -> Vec<LonLat> {
@@ -182,17 +210,66 @@ impl Prepared {
 
     fn index(&mut self) {
         let mut elements = Vec::new();
+        let mut owners = Vec::new();
         for &p in &self.points {
             elements.push((Element::Point(p), Ball::point(p)));
+            owners.push(None);
         }
-        let chains = self.lines.iter().chain(self.polygons.iter().flatten());
-        for chain in chains {
-            for w in chain.windows(2) {
+        for line in &self.lines {
+            for w in line.windows(2) {
                 elements.push((Element::Edge(w[0], w[1]), Ball::edge(w[0], w[1])));
+                owners.push(None);
             }
         }
+        for (pi, rings) in self.polygons.iter().enumerate() {
+            let mut flags = Vec::with_capacity(rings.len());
+            for (ri, ring) in rings.iter().enumerate() {
+                flags.push(crate::proximity::contain::encloses_north_pole(ring));
+                for w in ring.windows(2) {
+                    elements.push((Element::Edge(w[0], w[1]), Ball::edge(w[0], w[1])));
+                    owners.push(Some(RingRef {
+                        polygon: pi as u32,
+                        ring: ri as u32,
+                    }));
+                }
+            }
+            self.north_pole_rings.push(flags);
+        }
         self.ball = whole_ball(&elements);
+        let boxes: Vec<LonLatBox> = elements
+            .iter()
+            .map(|(_, b)| LonLatBox::around(b, 0.0))
+            .collect();
+        self.bbox = boxes.iter().copied().reduce(|acc, b| acc.union(&b));
+        if elements.len() > ELEMENT_INDEX_MIN {
+            let entries: Vec<IndexEntry> = boxes
+                .iter()
+                .enumerate()
+                .flat_map(|(i, b)| b.normalised().into_iter().map(move |r| entry(r, i as u32)))
+                .collect();
+            self.index = Some(RTree::bulk_load(entries));
+        }
         self.elements = elements;
+        self.owners = owners;
+    }
+
+    /// Positions in `elements` of the elements whose boxes meet `query`
+    /// (all of them when the geometry has no index). May repeat none.
+    pub fn elements_near(&self, query: &LonLatBox) -> Vec<usize> {
+        match &self.index {
+            None => (0..self.elements.len()).collect(),
+            Some(tree) => {
+                let mut found: Vec<usize> = query
+                    .normalised()
+                    .iter()
+                    .flat_map(|q| tree.locate_in_envelope_intersecting(*q))
+                    .map(|e| e.data as usize)
+                    .collect();
+                found.sort_unstable();
+                found.dedup();
+                found
+            }
+        }
     }
 
     /// True when the geometry has no vertex.
@@ -212,6 +289,10 @@ impl Prepared {
                 .map(|chain| chain[0]),
         )
     }
+}
+
+fn entry(r: AABB<[f64; 2]>, i: u32) -> IndexEntry {
+    GeomWithData::new(Rectangle::from_aabb(r), i)
 }
 
 /// A ball around all elements: centred on the middle of their centres'

@@ -3,16 +3,19 @@
 //! `ST_X: argument 1 (geom) must be a geometry blob, got text 'POINT (1 2)';
 //! build one with ST_GeomFromText`.
 
-use rusqlite::functions::Context;
 use rusqlite::types::ValueRef;
 
 use crate::blob::{self, Decoded};
-use crate::sql::{error, SqlFunction};
+use crate::sql::error;
+use crate::sql::state::ConnState;
 
-/// The arguments of one call of an SQL function.
+/// The arguments of one call of an SQL function or table-valued function,
+/// with the connection's state.
 pub struct Args<'a> {
-    function: &'static SqlFunction,
-    ctx: &'a Context<'a>,
+    name: &'static str,
+    params: &'static [&'static str],
+    values: Vec<ValueRef<'a>>,
+    state: &'a ConnState,
 }
 
 /// How an SQL value is described in an error message.
@@ -34,46 +37,59 @@ fn describe(value: ValueRef<'_>) -> String {
 }
 
 impl<'a> Args<'a> {
-    pub(crate) fn new(function: &'static SqlFunction, ctx: &'a Context<'a>) -> Self {
-        Args { function, ctx }
+    /// The arguments `values` of a call of `name`, whose parameters are
+    /// called `params`.
+    pub fn new(
+        name: &'static str,
+        params: &'static [&'static str],
+        values: Vec<ValueRef<'a>>,
+        state: &'a ConnState,
+    ) -> Self {
+        Args {
+            name,
+            params,
+            values,
+            state,
+        }
     }
 
     /// The SQL name of the function being called.
     pub fn name(&self) -> &'static str {
-        self.function.name
+        self.name
+    }
+
+    /// The state of the connection the call runs on (its layers).
+    pub fn state(&self) -> &ConnState {
+        self.state
     }
 
     /// How many arguments were passed.
     pub fn len(&self) -> usize {
-        self.ctx.len()
+        self.values.len()
     }
 
     /// True when no argument was passed.
     pub fn is_empty(&self) -> bool {
-        self.ctx.len() == 0
+        self.values.is_empty()
     }
 
-    fn raw(&self, i: usize) -> ValueRef<'_> {
-        if i < self.ctx.len() {
-            self.ctx.get_raw(i)
-        } else {
-            ValueRef::Null
-        }
+    fn raw(&self, i: usize) -> ValueRef<'a> {
+        self.values.get(i).copied().unwrap_or(ValueRef::Null)
     }
 
     /// An error about the whole call.
     pub fn fail(&self, message: impl std::fmt::Display) -> rusqlite::Error {
-        error(self.function.name, message)
+        error(self.name, message)
     }
 
     /// An error about argument `i` (0-based): `argument 2 (y): ...`.
     pub fn fail_arg(&self, i: usize, message: impl std::fmt::Display) -> rusqlite::Error {
-        let param = self.function.params.get(i).copied().unwrap_or("?");
+        let param = self.params.get(i).copied().unwrap_or("?");
         self.fail(format!("argument {} ({param}): {message}", i + 1))
     }
 
     /// The blob of argument `i`; NULL (or an omitted argument) gives `None`.
-    pub fn blob(&self, i: usize) -> rusqlite::Result<Option<&[u8]>> {
+    pub fn blob(&self, i: usize) -> rusqlite::Result<Option<&'a [u8]>> {
         match self.raw(i) {
             ValueRef::Null => Ok(None),
             ValueRef::Blob(b) => Ok(Some(b)),
@@ -112,7 +128,7 @@ impl<'a> Args<'a> {
     }
 
     /// The text of argument `i`; NULL gives `None`.
-    pub fn text(&self, i: usize) -> rusqlite::Result<Option<&str>> {
+    pub fn text(&self, i: usize) -> rusqlite::Result<Option<&'a str>> {
         match self.raw(i) {
             ValueRef::Null => Ok(None),
             ValueRef::Text(t) => std::str::from_utf8(t)

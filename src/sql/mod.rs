@@ -11,16 +11,23 @@ pub mod args;
 pub mod entry;
 pub mod info;
 pub mod io;
+pub mod layer;
 pub mod measure;
+pub mod state;
+pub mod sweep;
+pub mod tables;
 pub mod units;
 
 use std::panic::{catch_unwind, AssertUnwindSafe};
+
+use std::sync::Arc;
 
 use rusqlite::functions::FunctionFlags;
 use rusqlite::types::Value;
 use rusqlite::Connection;
 
 pub use args::Args;
+use state::ConnState;
 
 /// The result of a function body: a value or an error message that already
 /// names the function.
@@ -45,6 +52,7 @@ pub fn functions() -> impl Iterator<Item = &'static SqlFunction> {
     [
         io::FUNCTIONS,
         measure::FUNCTIONS,
+        layer::FUNCTIONS,
         units::FUNCTIONS,
         info::FUNCTIONS,
     ]
@@ -61,8 +69,12 @@ pub fn error(function: &str, message: impl std::fmt::Display) -> rusqlite::Error
 }
 
 /// Registers every function of [`functions`] on `conn`, once per arity it
-/// accepts, so that SQLite itself refuses a wrong argument count.
+/// accepts, so that SQLite itself refuses a wrong argument count; then the
+/// aggregate ambit_layer and the table-valued functions. All of them share
+/// one [`ConnState`], which lives as long as the connection (SQLite drops
+/// the functions, and with them the state, when it closes).
 pub fn register(conn: &Connection) -> rusqlite::Result<()> {
+    let state = Arc::new(ConnState::default());
     for f in functions() {
         let mut flags = FunctionFlags::SQLITE_UTF8;
         if f.deterministic {
@@ -71,19 +83,23 @@ pub fn register(conn: &Connection) -> rusqlite::Result<()> {
         let most = f.params.len();
         for arity in most - f.optional..=most {
             let function: &'static SqlFunction = f;
+            let state = Arc::clone(&state);
             conn.create_scalar_function(f.name, arity as i32, flags, move |ctx| {
-                call(function, ctx)
+                let values = (0..ctx.len()).map(|i| ctx.get_raw(i)).collect();
+                let args = Args::new(function.name, function.params, values, &state);
+                guard(function.name, || (function.body)(&args))
             })?;
         }
     }
+    layer::register_aggregate(conn, &state)?;
+    tables::register(conn, &state)?;
     Ok(())
 }
 
-/// Runs a body; a panic (a bug in ambit) becomes an SQL error naming the
+/// Runs `body`; a panic (a bug in ambit) becomes an SQL error naming the
 /// function instead of crossing into SQLite.
-fn call(function: &'static SqlFunction, ctx: &rusqlite::functions::Context<'_>) -> SqlResult {
-    let args = Args::new(function, ctx);
-    match catch_unwind(AssertUnwindSafe(|| (function.body)(&args))) {
+pub fn guard<T>(name: &str, body: impl FnOnce() -> rusqlite::Result<T>) -> rusqlite::Result<T> {
+    match catch_unwind(AssertUnwindSafe(body)) {
         Ok(result) => result,
         Err(panic) => {
             let what = panic
@@ -92,7 +108,7 @@ fn call(function: &'static SqlFunction, ctx: &rusqlite::functions::Context<'_>) 
                 .or_else(|| panic.downcast_ref::<String>().cloned())
                 .unwrap_or_default();
             Err(error(
-                function.name,
+                name,
                 format!("internal error, please report it with the query that caused it: {what}"),
             ))
         }

@@ -1,0 +1,462 @@
+//! ambit_sweep(layer, query): every row of `query` (its first column an
+//! id of any type, its second a geometry) against a layer, on all cores.
+//!
+//!     SELECT id, reached, nearest_m
+//!     FROM ambit_sweep('parks', 'SELECT geoid, geom FROM blocks');
+//!
+//! The query runs on the same connection. Its rows are read in chunks of
+//! [`chunk_rows`] rows (copying each chunk's blobs), each chunk is
+//! evaluated in parallel with rayon (RAYON_NUM_THREADS honoured), and rows
+//! come back in input order, so the output never depends on the thread
+//! count or chunk size; memory stays bounded by one chunk whatever the
+//! number of rows. `reached` and `nearest_m` equal ambit_reached and
+//! ambit_nearest on the same row (NULL geometry: both NULL; empty: 0 and
+//! NULL). An interrupt (sqlite3_interrupt, Ctrl-C in the shell) stops the
+//! next read of the query, at most one chunk later. Progress (rows done,
+//! rows per second, time left) goes to stderr when stderr is a terminal or
+//! AMBIT_PROGRESS=1 (AMBIT_PROGRESS=0 silences it).
+//!
+//! Reading the query: rusqlite's statements borrow their connection, which
+//! a virtual-table cursor cannot hold across calls, so [`RawQuery`] drives
+//! the statement through SQLite's C API directly. Its `unsafe` blocks are
+//! sound for the reasons given beside each: the handle is the connection
+//! SQLite handed to this virtual table (valid while the table exists, and
+//! nested statements on it are allowed), the statement is finalised exactly
+//! once, and column pointers are copied before the next step.
+
+use std::borrow::Cow;
+use std::ffi::{c_int, CStr, CString};
+use std::io::IsTerminal;
+use std::marker::PhantomData;
+use std::sync::Arc;
+use std::time::Instant;
+
+use rayon::prelude::*;
+use rusqlite::ffi;
+use rusqlite::types::Value;
+use rusqlite::vtab::{Context, Filters, IndexInfo, VTab, VTabConnection, VTabCursor};
+
+use crate::blob;
+use crate::proximity::{Layer, Prepared};
+use crate::sql::state::ConnState;
+use crate::sql::tables::{argument_plan, arguments, table_error};
+use crate::sql::{guard, Args};
+
+const SWEEP: &str = "ambit_sweep";
+const SWEEP_PARAMS: &[&str] = &["layer", "query"];
+
+/// Rows per chunk: AMBIT_CHUNK_ROWS if set (1 or more), else 8192.
+pub fn chunk_rows() -> usize {
+    std::env::var("AMBIT_CHUNK_ROWS")
+        .ok()
+        .and_then(|v| v.parse().ok())
+        .filter(|&n: &usize| n >= 1)
+        .unwrap_or(8192)
+}
+
+/// The handle of the connection a virtual table lives on.
+#[derive(Clone, Copy)]
+pub struct DbHandle(*mut ffi::sqlite3);
+
+impl DbHandle {
+    /// Wraps the handle of a live connection.
+    ///
+    /// # Safety
+    /// `db` must be a connection that outlives every use of the handle.
+    pub unsafe fn new(db: *mut ffi::sqlite3) -> DbHandle {
+        DbHandle(db)
+    }
+}
+
+/// A prepared statement driven through the C API (see the module doc).
+pub struct RawQuery {
+    db: *mut ffi::sqlite3,
+    stmt: *mut ffi::sqlite3_stmt,
+}
+
+impl RawQuery {
+    fn message(db: *mut ffi::sqlite3) -> String {
+        // SAFETY: db is a live connection; sqlite3_errmsg returns a
+        // NUL-terminated string owned by SQLite, copied here at once.
+        unsafe { CStr::from_ptr(ffi::sqlite3_errmsg(db)) }
+            .to_string_lossy()
+            .into_owned()
+    }
+
+    /// Prepares `sql` (one statement) on the connection.
+    pub fn prepare(handle: DbHandle, sql: &str) -> Result<RawQuery, String> {
+        let db = handle.0;
+        let text =
+            CString::new(sql).map_err(|_| "the query contains a NUL character".to_string())?;
+        let mut stmt = std::ptr::null_mut();
+        let mut tail = std::ptr::null();
+        // SAFETY: db is a live connection, text outlives the call, and the
+        // out-pointers are valid locals.
+        let rc = unsafe { ffi::sqlite3_prepare_v2(db, text.as_ptr(), -1, &mut stmt, &mut tail) };
+        if rc != ffi::SQLITE_OK {
+            return Err(RawQuery::message(db));
+        }
+        let query = RawQuery { db, stmt };
+        if stmt.is_null() {
+            return Err("the query is empty".to_string());
+        }
+        // SAFETY: tail points into `text` (or at its terminating NUL).
+        let rest = unsafe { CStr::from_ptr(tail) }.to_string_lossy();
+        if !rest.trim().trim_end_matches(';').trim().is_empty() {
+            return Err("the query must be a single SELECT statement".to_string());
+        }
+        Ok(query)
+    }
+
+    /// Columns of the result.
+    pub fn columns(&self) -> usize {
+        // SAFETY: stmt is a live prepared statement.
+        unsafe { ffi::sqlite3_column_count(self.stmt) as usize }
+    }
+
+    /// Steps to the next row: `Ok(true)` with a row, `Ok(false)` at the
+    /// end, or SQLite's message (an interrupt shows up here).
+    pub fn step(&mut self) -> Result<bool, String> {
+        // SAFETY: stmt is a live prepared statement.
+        match unsafe { ffi::sqlite3_step(self.stmt) } {
+            ffi::SQLITE_ROW => Ok(true),
+            ffi::SQLITE_DONE => Ok(false),
+            _ => Err(RawQuery::message(self.db)),
+        }
+    }
+
+    /// Column `i` of the current row, copied.
+    pub fn value(&self, i: usize) -> Value {
+        let i = i as c_int;
+        // SAFETY: stmt has a current row (step returned true) and i is a
+        // column index below columns(); blob and text pointers are copied
+        // before any further call on the statement.
+        unsafe {
+            match ffi::sqlite3_column_type(self.stmt, i) {
+                ffi::SQLITE_INTEGER => Value::Integer(ffi::sqlite3_column_int64(self.stmt, i)),
+                ffi::SQLITE_FLOAT => Value::Real(ffi::sqlite3_column_double(self.stmt, i)),
+                ffi::SQLITE_TEXT => {
+                    let p = ffi::sqlite3_column_text(self.stmt, i);
+                    let n = ffi::sqlite3_column_bytes(self.stmt, i) as usize;
+                    let bytes = if p.is_null() {
+                        &[][..]
+                    } else {
+                        std::slice::from_raw_parts(p, n)
+                    };
+                    Value::Text(String::from_utf8_lossy(bytes).into_owned())
+                }
+                ffi::SQLITE_BLOB => {
+                    let p = ffi::sqlite3_column_blob(self.stmt, i).cast::<u8>();
+                    let n = ffi::sqlite3_column_bytes(self.stmt, i) as usize;
+                    Value::Blob(if p.is_null() {
+                        Vec::new()
+                    } else {
+                        std::slice::from_raw_parts(p, n).to_vec()
+                    })
+                }
+                _ => Value::Null,
+            }
+        }
+    }
+}
+
+impl Drop for RawQuery {
+    fn drop(&mut self) {
+        // SAFETY: stmt came from sqlite3_prepare_v2 and is finalised once.
+        unsafe {
+            ffi::sqlite3_finalize(self.stmt);
+        }
+    }
+}
+
+/// One output row.
+struct Row {
+    id: Value,
+    reached: Value,
+    nearest: Value,
+}
+
+/// Evaluates one row against the layer.
+fn evaluate(layer: &Layer, id: Value, geom: Value) -> Result<Row, String> {
+    let (reached, nearest) = match &geom {
+        Value::Null => (Value::Null, Value::Null),
+        Value::Blob(bytes) => {
+            let decoded =
+                blob::decode_valid(bytes).map_err(|e| format!("row with id {}: {e}", show(&id)))?;
+            let g = Prepared::new(&decoded.geometry);
+            let (reached, nearest) = layer.reached_and_nearest(&g);
+            (
+                Value::Integer(reached.into()),
+                nearest.map_or(Value::Null, Value::Real),
+            )
+        }
+        other => {
+            return Err(format!(
+                "row with id {}: the query's second column must be a geometry blob, got {}",
+                show(&id),
+                kind(other)
+            ))
+        }
+    };
+    Ok(Row {
+        id,
+        reached,
+        nearest,
+    })
+}
+
+fn show(v: &Value) -> String {
+    match v {
+        Value::Integer(i) => i.to_string(),
+        Value::Real(r) => r.to_string(),
+        Value::Text(t) => format!("'{t}'"),
+        Value::Blob(_) => "(a blob)".to_string(),
+        Value::Null => "NULL".to_string(),
+    }
+}
+
+fn kind(v: &Value) -> &'static str {
+    match v {
+        Value::Integer(_) => "an integer",
+        Value::Real(_) => "a real",
+        Value::Text(_) => "text",
+        Value::Blob(_) => "a blob",
+        Value::Null => "NULL",
+    }
+}
+
+/// Progress on stderr, at most twice a second.
+struct Progress {
+    total: Option<u64>,
+    done: u64,
+    start: Instant,
+    last: Instant,
+}
+
+impl Progress {
+    fn enabled() -> bool {
+        match std::env::var("AMBIT_PROGRESS").as_deref() {
+            Ok("1") => true,
+            Ok("0") => false,
+            _ => std::io::stderr().is_terminal(),
+        }
+    }
+
+    fn report(&mut self, rows: u64, last: bool) {
+        self.done += rows;
+        let now = Instant::now();
+        if !last && now.duration_since(self.last).as_secs_f64() < 0.5 {
+            return;
+        }
+        self.last = now;
+        let secs = now.duration_since(self.start).as_secs_f64().max(1e-9);
+        let rate = self.done as f64 / secs;
+        let left = match self.total {
+            Some(t) if rate > 0.0 && t >= self.done => {
+                format!(", {:.0} s left", (t - self.done) as f64 / rate)
+            }
+            _ => String::new(),
+        };
+        let of = self.total.map_or(String::new(), |t| format!(" of {t}"));
+        eprint!(
+            "\r{SWEEP}: {}{of} rows, {rate:.0} rows/s{left}   {}",
+            self.done,
+            if last { "\n" } else { "" }
+        );
+    }
+}
+
+#[repr(C)]
+pub struct SweepTable {
+    base: ffi::sqlite3_vtab,
+    state: Arc<ConnState>,
+    db: DbHandle,
+}
+
+// SAFETY: #[repr(C)] with the sqlite3_vtab base first (see tables.rs).
+unsafe impl<'vtab> VTab<'vtab> for SweepTable {
+    type Aux = Arc<ConnState>;
+    type Cursor = SweepCursor<'vtab>;
+
+    fn connect(
+        db: &mut VTabConnection,
+        aux: Option<&Arc<ConnState>>,
+        _module: &[u8],
+        _database: &[u8],
+        _table: &[u8],
+        _args: &[&[u8]],
+    ) -> rusqlite::Result<(Cow<'static, CStr>, Self)> {
+        // SAFETY: the handle of the connection this table lives on, which
+        // outlives the table; it is only used to prepare the sweep's query
+        // on that same connection while the table exists (module doc).
+        let handle = unsafe { DbHandle::new(db.handle()) };
+        Ok((
+            Cow::Borrowed(
+                c"CREATE TABLE x(id, reached INTEGER, nearest_m REAL, layer HIDDEN, query HIDDEN)",
+            ),
+            SweepTable {
+                base: ffi::sqlite3_vtab::default(),
+                state: aux.cloned().unwrap_or_default(),
+                db: handle,
+            },
+        ))
+    }
+
+    fn best_index(&self, info: &mut IndexInfo) -> rusqlite::Result<bool> {
+        argument_plan(info, 3, 2, 2)
+    }
+
+    fn open(&'vtab mut self) -> rusqlite::Result<SweepCursor<'vtab>> {
+        Ok(SweepCursor {
+            base: ffi::sqlite3_vtab_cursor::default(),
+            table: self,
+            run: None,
+            rows: Vec::new(),
+            at: 0,
+            phantom: PhantomData,
+        })
+    }
+}
+
+/// A running sweep.
+struct Run {
+    layer: Arc<Layer>,
+    query: RawQuery,
+    finished: bool,
+    progress: Option<Progress>,
+}
+
+#[repr(C)]
+pub struct SweepCursor<'vtab> {
+    base: ffi::sqlite3_vtab_cursor,
+    table: &'vtab SweepTable,
+    run: Option<Run>,
+    rows: Vec<Row>,
+    at: usize,
+    phantom: PhantomData<&'vtab SweepTable>,
+}
+
+impl SweepCursor<'_> {
+    fn start(&mut self, args: &Args) -> rusqlite::Result<()> {
+        let name = args
+            .text(0)?
+            .ok_or_else(|| args.fail_arg(0, "must not be NULL"))?;
+        let sql = args
+            .text(1)?
+            .ok_or_else(|| args.fail_arg(1, "must not be NULL"))?;
+        let layer = args.state().layer(SWEEP, name)?;
+        let query = RawQuery::prepare(self.table.db, sql).map_err(|e| args.fail_arg(1, e))?;
+        if query.columns() < 2 {
+            return Err(args.fail_arg(
+                1,
+                "must return two columns, an id and a geometry: SELECT id, geom FROM ...",
+            ));
+        }
+        let progress = Progress::enabled().then(|| {
+            let total = RawQuery::prepare(self.table.db, &format!("SELECT count(*) FROM ({sql})"))
+                .ok()
+                .and_then(|mut q| match q.step() {
+                    Ok(true) => match q.value(0) {
+                        Value::Integer(n) => Some(n as u64),
+                        _ => None,
+                    },
+                    _ => None,
+                });
+            Progress {
+                total,
+                done: 0,
+                start: Instant::now(),
+                last: Instant::now(),
+            }
+        });
+        self.run = Some(Run {
+            layer,
+            query,
+            finished: false,
+            progress,
+        });
+        self.next_chunk()
+    }
+
+    /// Reads and evaluates the next chunk of rows.
+    fn next_chunk(&mut self) -> rusqlite::Result<()> {
+        self.rows.clear();
+        self.at = 0;
+        let Some(run) = self.run.as_mut() else {
+            return Ok(());
+        };
+        if run.finished {
+            return Ok(());
+        }
+        let limit = chunk_rows();
+        let mut input = Vec::with_capacity(limit);
+        while input.len() < limit {
+            match run.query.step() {
+                Ok(true) => input.push((run.query.value(0), run.query.value(1))),
+                Ok(false) => {
+                    run.finished = true;
+                    break;
+                }
+                Err(e) => return Err(table_error(SWEEP, format!("the query failed: {e}"))),
+            }
+        }
+        let layer = Arc::clone(&run.layer);
+        let n = input.len() as u64;
+        let rows: Result<Vec<Row>, String> = input
+            .into_par_iter()
+            .map(|(id, geom)| evaluate(&layer, id, geom))
+            .collect();
+        self.rows = rows.map_err(|e| table_error(SWEEP, e))?;
+        if let Some(p) = run.progress.as_mut() {
+            p.report(n, run.finished);
+        }
+        Ok(())
+    }
+}
+
+// SAFETY: #[repr(C)] with the sqlite3_vtab_cursor base first.
+unsafe impl VTabCursor for SweepCursor<'_> {
+    fn filter(
+        &mut self,
+        idx: c_int,
+        _s: Option<&str>,
+        values: &Filters<'_>,
+    ) -> rusqlite::Result<()> {
+        if idx & 0b11 != 0b11 {
+            return Err(table_error(
+                SWEEP,
+                "needs a layer name and a query: SELECT * FROM ambit_sweep('layer', 'SELECT id, geom FROM ...')",
+            ));
+        }
+        let state = Arc::clone(&self.table.state);
+        let args = Args::new(SWEEP, SWEEP_PARAMS, arguments(idx, values, 2), &state);
+        self.run = None;
+        guard(SWEEP, || self.start(&args))
+    }
+
+    fn next(&mut self) -> rusqlite::Result<()> {
+        self.at += 1;
+        if self.at >= self.rows.len() {
+            guard(SWEEP, || self.next_chunk())?;
+        }
+        Ok(())
+    }
+
+    fn eof(&self) -> bool {
+        self.at >= self.rows.len()
+    }
+
+    fn column(&self, ctx: &mut Context, i: c_int) -> rusqlite::Result<()> {
+        let row = &self.rows[self.at];
+        match i {
+            0 => ctx.set_result(&row.id),
+            1 => ctx.set_result(&row.reached),
+            2 => ctx.set_result(&row.nearest),
+            _ => ctx.set_result(&Value::Null),
+        }
+    }
+
+    fn rowid(&self) -> rusqlite::Result<i64> {
+        Ok(self.at as i64 + 1)
+    }
+}

@@ -1,0 +1,338 @@
+//! ambit's table-valued functions, as SQLite virtual tables
+//! (https://sqlite.org/vtab.html, eponymous-only modules):
+//!
+//!     SELECT * FROM ambit_layers;                       -> name, features, vertices, bytes
+//!     SELECT * FROM ambit_near('clinics', geom [, m]);  -> feature_id, distance_m
+//!     SELECT * FROM ambit_sweep('parks', 'SELECT id, geom FROM blocks');
+//!                                                       -> id, reached, nearest_m
+//!
+//! How SQL maps onto the callbacks: `FROM ambit_near(a, b, c)` makes
+//! SQLite call xBestIndex with equality constraints on the hidden columns
+//! `layer`, `geom`, `metres`; [`argument_plan`] hands them to xFilter as
+//! arguments in that order; xFilter computes all rows of the call (for
+//! ambit_sweep: of its current chunk); xNext / xEof / xColumn walk them.
+//! A correlated use (`FROM blocks b, ambit_near('clinics', b.geom) n`)
+//! runs xFilter once per block.
+//!
+//! `unsafe impl` below is required by rusqlite's `VTab` and `VTabCursor`
+//! traits, whose contract is that the struct is `#[repr(C)]` with the
+//! SQLite base struct as its first field; every struct here is declared
+//! that way, which is what makes the implementations sound.
+
+use std::borrow::Cow;
+use std::ffi::{c_int, CStr};
+use std::marker::PhantomData;
+use std::sync::Arc;
+
+use rusqlite::types::{Value, ValueRef};
+use rusqlite::vtab::{
+    Context, Filters, IndexConstraintOp, IndexInfo, Module, VTab, VTabConfig, VTabConnection,
+    VTabCursor,
+};
+use rusqlite::{ffi, Connection};
+
+use crate::proximity::Prepared;
+use crate::sql::layer::distance_arg;
+use crate::sql::state::ConnState;
+use crate::sql::{guard, sweep, Args};
+
+/// Registers ambit_layers, ambit_near and ambit_sweep.
+pub fn register(conn: &Connection, state: &Arc<ConnState>) -> rusqlite::Result<()> {
+    const LAYERS: Module<LayersTable> = Module::eponymous_only_module();
+    const NEAR_MODULE: Module<NearTable> = Module::eponymous_only_module();
+    const SWEEP_MODULE: Module<sweep::SweepTable> = Module::eponymous_only_module();
+    conn.create_module(c"ambit_layers", &LAYERS, Some(Arc::clone(state)))?;
+    conn.create_module(c"ambit_near", &NEAR_MODULE, Some(Arc::clone(state)))?;
+    conn.create_module(c"ambit_sweep", &SWEEP_MODULE, Some(Arc::clone(state)))?;
+    Ok(())
+}
+
+/// An error from a table-valued function, `"<name>: <message>"`.
+pub fn table_error(name: &str, message: impl std::fmt::Display) -> rusqlite::Error {
+    rusqlite::Error::ModuleError(format!("{name}: {message}"))
+}
+
+/// Plans the arguments of a table-valued function whose hidden argument
+/// columns start at `first_arg` and number `args`, the first `required` of
+/// them needed. Equality constraints on them become xFilter arguments in
+/// column order; `idx_num` has bit k set when argument k is given.
+/// Returns `Ok(false)` (SQLITE_CONSTRAINT: try another join order) when a
+/// needed argument is not usable yet.
+pub fn argument_plan(
+    info: &mut IndexInfo,
+    first_arg: c_int,
+    args: usize,
+    required: usize,
+) -> rusqlite::Result<bool> {
+    let mut slot: Vec<Option<usize>> = vec![None; args];
+    let mut unusable = vec![false; args];
+    for (i, c) in info.constraints().enumerate() {
+        let k = c.column() - first_arg;
+        if k < 0 || k as usize >= args {
+            continue;
+        }
+        let k = k as usize;
+        if !c.is_usable() {
+            unusable[k] = true;
+        } else if c.operator() == IndexConstraintOp::SQLITE_INDEX_CONSTRAINT_EQ {
+            slot[k] = Some(i);
+        }
+    }
+    if (0..required).any(|k| slot[k].is_none() && unusable[k]) {
+        return Ok(false);
+    }
+    let mut idx_num = 0;
+    let mut argv = 0;
+    for (k, s) in slot.iter().enumerate() {
+        if let Some(i) = s {
+            argv += 1;
+            idx_num |= 1 << k;
+            let mut usage = info.constraint_usage(*i);
+            usage.set_argv_index(argv);
+            usage.set_omit(true);
+        }
+    }
+    info.set_idx_num(idx_num);
+    info.set_estimated_cost(if (0..required).all(|k| slot[k].is_some()) {
+        10.0
+    } else {
+        1e12
+    });
+    Ok(true)
+}
+
+/// The filter arguments laid out in parameter order, NULL where absent.
+pub fn arguments<'a>(idx_num: c_int, values: &'a Filters<'a>, params: usize) -> Vec<ValueRef<'a>> {
+    let mut given = values.iter();
+    (0..params)
+        .map(|k| {
+            if idx_num & (1 << k) != 0 {
+                given.next().unwrap_or(ValueRef::Null)
+            } else {
+                ValueRef::Null
+            }
+        })
+        .collect()
+}
+
+fn set(ctx: &mut Context, value: &Value) -> rusqlite::Result<()> {
+    ctx.set_result(value)
+}
+
+// ---------------------------------------------------------------- layers
+
+#[repr(C)]
+struct LayersTable {
+    base: ffi::sqlite3_vtab,
+    state: Arc<ConnState>,
+}
+
+// SAFETY: #[repr(C)] with the sqlite3_vtab base first (see the module doc).
+unsafe impl<'vtab> VTab<'vtab> for LayersTable {
+    type Aux = Arc<ConnState>;
+    type Cursor = LayersCursor<'vtab>;
+
+    fn connect(
+        db: &mut VTabConnection,
+        aux: Option<&Arc<ConnState>>,
+        _module: &[u8],
+        _database: &[u8],
+        _table: &[u8],
+        _args: &[&[u8]],
+    ) -> rusqlite::Result<(Cow<'static, CStr>, Self)> {
+        db.config(VTabConfig::Innocuous)?;
+        let state = aux.cloned().unwrap_or_default();
+        Ok((
+            Cow::Borrowed(
+                c"CREATE TABLE x(name TEXT, features INTEGER, vertices INTEGER, bytes INTEGER)",
+            ),
+            LayersTable {
+                base: ffi::sqlite3_vtab::default(),
+                state,
+            },
+        ))
+    }
+
+    fn best_index(&self, info: &mut IndexInfo) -> rusqlite::Result<bool> {
+        info.set_estimated_cost(10.0);
+        Ok(true)
+    }
+
+    fn open(&'vtab mut self) -> rusqlite::Result<LayersCursor<'vtab>> {
+        Ok(LayersCursor {
+            base: ffi::sqlite3_vtab_cursor::default(),
+            state: Arc::clone(&self.state),
+            rows: Vec::new(),
+            at: 0,
+            phantom: PhantomData,
+        })
+    }
+}
+
+#[repr(C)]
+struct LayersCursor<'vtab> {
+    base: ffi::sqlite3_vtab_cursor,
+    state: Arc<ConnState>,
+    rows: Vec<[Value; 4]>,
+    at: usize,
+    phantom: PhantomData<&'vtab LayersTable>,
+}
+
+// SAFETY: #[repr(C)] with the sqlite3_vtab_cursor base first.
+unsafe impl VTabCursor for LayersCursor<'_> {
+    fn filter(
+        &mut self,
+        _idx: c_int,
+        _s: Option<&str>,
+        _args: &Filters<'_>,
+    ) -> rusqlite::Result<()> {
+        self.rows = self
+            .state
+            .all()
+            .into_iter()
+            .map(|(name, layer)| {
+                [
+                    Value::Text(name),
+                    Value::Integer(layer.features().len() as i64),
+                    Value::Integer(layer.vertices() as i64),
+                    Value::Integer(layer.bytes() as i64),
+                ]
+            })
+            .collect();
+        self.at = 0;
+        Ok(())
+    }
+
+    fn next(&mut self) -> rusqlite::Result<()> {
+        self.at += 1;
+        Ok(())
+    }
+
+    fn eof(&self) -> bool {
+        self.at >= self.rows.len()
+    }
+
+    fn column(&self, ctx: &mut Context, i: c_int) -> rusqlite::Result<()> {
+        set(ctx, &self.rows[self.at][i as usize])
+    }
+
+    fn rowid(&self) -> rusqlite::Result<i64> {
+        Ok(self.at as i64 + 1)
+    }
+}
+
+// ------------------------------------------------------------------ near
+
+const NEAR: &str = "ambit_near";
+const NEAR_PARAMS: &[&str] = &["layer", "geom", "metres"];
+
+#[repr(C)]
+struct NearTable {
+    base: ffi::sqlite3_vtab,
+    state: Arc<ConnState>,
+}
+
+// SAFETY: #[repr(C)] with the sqlite3_vtab base first.
+unsafe impl<'vtab> VTab<'vtab> for NearTable {
+    type Aux = Arc<ConnState>;
+    type Cursor = NearCursor<'vtab>;
+
+    fn connect(
+        db: &mut VTabConnection,
+        aux: Option<&Arc<ConnState>>,
+        _module: &[u8],
+        _database: &[u8],
+        _table: &[u8],
+        _args: &[&[u8]],
+    ) -> rusqlite::Result<(Cow<'static, CStr>, Self)> {
+        db.config(VTabConfig::Innocuous)?;
+        Ok((
+            Cow::Borrowed(c"CREATE TABLE x(feature_id INTEGER, distance_m REAL, layer HIDDEN, geom HIDDEN, metres HIDDEN)"),
+            NearTable {
+                base: ffi::sqlite3_vtab::default(),
+                state: aux.cloned().unwrap_or_default(),
+            },
+        ))
+    }
+
+    fn best_index(&self, info: &mut IndexInfo) -> rusqlite::Result<bool> {
+        argument_plan(info, 2, 3, 2)
+    }
+
+    fn open(&'vtab mut self) -> rusqlite::Result<NearCursor<'vtab>> {
+        Ok(NearCursor {
+            base: ffi::sqlite3_vtab_cursor::default(),
+            state: Arc::clone(&self.state),
+            rows: Vec::new(),
+            at: 0,
+            phantom: PhantomData,
+        })
+    }
+}
+
+#[repr(C)]
+struct NearCursor<'vtab> {
+    base: ffi::sqlite3_vtab_cursor,
+    state: Arc<ConnState>,
+    rows: Vec<(i64, f64)>,
+    at: usize,
+    phantom: PhantomData<&'vtab NearTable>,
+}
+
+impl NearCursor<'_> {
+    fn compute(&self, args: &Args) -> rusqlite::Result<Vec<(i64, f64)>> {
+        let Some(name) = args.text(0)? else {
+            return Ok(Vec::new());
+        };
+        let layer = args.state().layer(NEAR, name)?;
+        let metres = distance_arg(args, 2)?;
+        Ok(match args.geometry(1)? {
+            Some(d) => layer.near(&Prepared::new(&d.geometry), metres),
+            None => Vec::new(),
+        })
+    }
+}
+
+// SAFETY: #[repr(C)] with the sqlite3_vtab_cursor base first.
+unsafe impl VTabCursor for NearCursor<'_> {
+    fn filter(
+        &mut self,
+        idx: c_int,
+        _s: Option<&str>,
+        values: &Filters<'_>,
+    ) -> rusqlite::Result<()> {
+        if idx & 0b11 != 0b11 {
+            return Err(table_error(
+                NEAR,
+                "needs a layer name and a geometry: SELECT * FROM ambit_near('layer', geom [, metres])",
+            ));
+        }
+        let state = Arc::clone(&self.state);
+        let args = Args::new(NEAR, NEAR_PARAMS, arguments(idx, values, 3), &state);
+        self.rows = guard(NEAR, || self.compute(&args))?;
+        self.at = 0;
+        Ok(())
+    }
+
+    fn next(&mut self) -> rusqlite::Result<()> {
+        self.at += 1;
+        Ok(())
+    }
+
+    fn eof(&self) -> bool {
+        self.at >= self.rows.len()
+    }
+
+    fn column(&self, ctx: &mut Context, i: c_int) -> rusqlite::Result<()> {
+        let (id, d) = self.rows[self.at];
+        match i {
+            0 => ctx.set_result(&id),
+            1 => ctx.set_result(&d),
+            _ => ctx.set_result(&Value::Null),
+        }
+    }
+
+    fn rowid(&self) -> rusqlite::Result<i64> {
+        Ok(self.at as i64 + 1)
+    }
+}

@@ -1,0 +1,257 @@
+//! Layers against brute force: every answer of the index equals the answer
+//! of the exact distance over all features (ambit::proximity::distance,
+//! itself checked against brute force in tests/proximity_bruteforce.rs), on
+//! random layers with fixed seeds; the order features are added in changes
+//! nothing; and the hard cases: the antimeridian, multipolygons, a hole
+//! holding a block, a 200,000-vertex polygon, empty geometries.
+
+use ambit::blob::wkt;
+use ambit::geometry::validate::validate;
+use ambit::proximity::{distance, Feature, Layer, Prepared};
+use ambit::testing::XorShift;
+use ambit::units::METRES_PER_MILE;
+
+fn prepare(text: &str) -> Prepared {
+    let g = wkt::parse(text).unwrap();
+    validate(&g, 4326).unwrap();
+    Prepared::new(&g)
+}
+
+fn feature(id: i64, text: &str, reach: f64) -> Feature {
+    let g = wkt::parse(text).unwrap();
+    validate(&g, 4326).unwrap();
+    Feature {
+        id,
+        reach,
+        vertices: g.vertex_count(),
+        geometry: Prepared::new(&g),
+    }
+}
+
+/// A closed star-shaped ring around `c` (degrees of latitude for radii).
+fn ring(rng: &mut XorShift, c: (f64, f64), n: usize, r: f64) -> String {
+    let k = 1.0 / c.1.to_radians().cos();
+    let mut pts: Vec<String> = (0..n)
+        .map(|i| {
+            let t = i as f64 / n as f64 * std::f64::consts::TAU;
+            let rr = r * rng.uniform(0.6, 1.0);
+            format!("{} {}", c.0 + rr * k * t.cos(), c.1 + rr * t.sin())
+        })
+        .collect();
+    pts.push(pts[0].clone());
+    format!("({})", pts.join(", "))
+}
+
+fn random_feature_text(rng: &mut XorShift, c: (f64, f64)) -> String {
+    match rng.below(4) {
+        0 => format!("POINT ({} {})", c.0, c.1),
+        1 => format!("POLYGON ({})", ring(rng, c, 12, 0.004)),
+        2 => {
+            let outer = ring(rng, c, 16, 0.008);
+            let hole = ring(rng, c, 6, 0.002);
+            format!("POLYGON ({outer}, {hole})")
+        }
+        _ => {
+            let a = ring(rng, c, 8, 0.002);
+            let d = (c.0 + 0.01, c.1 - 0.005);
+            let b = ring(rng, d, 8, 0.002);
+            format!("MULTIPOLYGON (({a}), ({b}))")
+        }
+    }
+}
+
+/// A region of `n` random features around `centre` (spread `spread`
+/// degrees), with reaches of 0, 0.5, 1 or 3 miles.
+fn random_layer(rng: &mut XorShift, centre: (f64, f64), spread: f64, n: usize) -> Vec<Feature> {
+    let reaches = [
+        0.0,
+        0.5 * METRES_PER_MILE,
+        METRES_PER_MILE,
+        3.0 * METRES_PER_MILE,
+    ];
+    (0..n)
+        .map(|i| {
+            let c = (
+                centre.0 + rng.uniform(-spread, spread),
+                centre.1 + rng.uniform(-spread, spread) * 0.7,
+            );
+            let text = random_feature_text(rng, c);
+            feature(i as i64 + 1, &text, reaches[rng.below(4) as usize])
+        })
+        .collect()
+}
+
+fn random_block(rng: &mut XorShift, centre: (f64, f64), spread: f64) -> Prepared {
+    let c = (
+        centre.0 + rng.uniform(-spread, spread),
+        centre.1 + rng.uniform(-spread, spread) * 0.7,
+    );
+    if rng.below(5) == 0 {
+        prepare(&format!("POINT ({} {})", c.0, c.1))
+    } else {
+        prepare(&format!("POLYGON ({})", ring(rng, c, 10, 0.0015)))
+    }
+}
+
+/// Checks every query of `layer` against brute force for `blocks`.
+fn check_against_brute_force(layer: &Layer, blocks: &[Prepared]) -> (usize, usize) {
+    let mut reached_count = 0;
+    for (b, block) in blocks.iter().enumerate() {
+        let exact: Vec<(i64, f64, f64)> = layer
+            .features()
+            .iter()
+            .map(|f| (f.id, distance(block, &f.geometry).unwrap(), f.reach))
+            .collect();
+        let within: Vec<&(i64, f64, f64)> = exact.iter().filter(|(_, d, r)| d <= r).collect();
+        assert_eq!(layer.reached(block), !within.is_empty(), "block {b}");
+        assert_eq!(layer.count(block, None), within.len(), "block {b}");
+        assert_eq!(
+            layer.count(block, Some(2000.0)),
+            exact.iter().filter(|(_, d, _)| *d <= 2000.0).count(),
+            "block {b}"
+        );
+        let mut expected: Vec<(i64, f64)> = within.iter().map(|(id, d, _)| (*id, *d)).collect();
+        expected.sort_by(|x, y| x.1.total_cmp(&y.1).then(x.0.cmp(&y.0)));
+        let near = layer.near(block, None);
+        assert_eq!(near.len(), expected.len(), "block {b}");
+        for (got, want) in near.iter().zip(&expected) {
+            assert_eq!(got.0, want.0, "block {b}");
+            assert!(
+                (got.1 - want.1).abs() <= 1e-6,
+                "block {b}: {got:?} {want:?}"
+            );
+        }
+        let nearest = exact.iter().map(|e| e.1).fold(f64::INFINITY, f64::min);
+        let got = layer.nearest(block, None).unwrap();
+        assert!(
+            (got - nearest).abs() <= 1e-6,
+            "block {b}: nearest {got} vs {nearest}"
+        );
+        match layer.nearest(block, Some(1500.0)) {
+            Some(d) => assert!((d - nearest).abs() <= 1e-6 && nearest <= 1500.0),
+            None => assert!(nearest > 1500.0, "block {b}"),
+        }
+        reached_count += !within.is_empty() as usize;
+    }
+    (reached_count, blocks.len())
+}
+
+#[test]
+fn random_layers_answer_as_brute_force() {
+    let mut rng = XorShift(0x1a7e_5eed);
+    for (centre, spread) in [
+        ((-131.0, 38.5), 0.4),
+        ((12.0, -40.0), 0.3),
+        ((179.95, -17.0), 0.3),
+    ] {
+        let features = random_layer(&mut rng, centre, spread, 100);
+        let layer = Layer::new(features);
+        let blocks: Vec<Prepared> = (0..150)
+            .map(|_| random_block(&mut rng, centre, spread))
+            .collect();
+        let (reached, total) = check_against_brute_force(&layer, &blocks);
+        assert!(
+            reached > 20 && reached < total,
+            "{reached} of {total} reached near {centre:?}"
+        );
+    }
+}
+
+#[test]
+fn the_order_of_features_changes_nothing() {
+    let mut rng = XorShift(0x0de7_e2a1);
+    let centre = (-131.0, 38.5);
+    let features = random_layer(&mut rng, centre, 0.1, 120);
+    let mut reversed = features.clone();
+    reversed.reverse();
+    let (a, b) = (Layer::new(features), Layer::new(reversed));
+    for _ in 0..300 {
+        let block = random_block(&mut rng, centre, 0.1);
+        assert_eq!(a.reached(&block), b.reached(&block));
+        assert_eq!(a.count(&block, None), b.count(&block, None));
+        assert_eq!(a.near(&block, Some(3000.0)), b.near(&block, Some(3000.0)));
+        assert_eq!(a.nearest(&block, None), b.nearest(&block, None));
+    }
+}
+
+#[test]
+fn an_island_chain_across_the_antimeridian() {
+    // Parks on islands at 179.9 E and 179.9 W; blocks on both sides.
+    let layer = Layer::new(vec![
+        feature(1, "POLYGON ((179.90 -16.00, 179.95 -16.00, 179.95 -15.95, 179.90 -15.95, 179.90 -16.00))", 804.672),
+        feature(2, "POLYGON ((-179.95 -16.00, -179.90 -16.00, -179.90 -15.95, -179.95 -15.95, -179.95 -16.00))", 804.672),
+        feature(3, "POLYGON ((179.99 -16.10, -179.99 -16.10, -179.99 -16.08, 179.99 -16.08, 179.99 -16.10))", 0.0),
+    ]);
+    let blocks: Vec<Prepared> = [
+        "POINT (179.955 -15.975)",
+        "POINT (-179.955 -15.975)",
+        "POINT (180.0 -16.09)",
+        "POINT (-180.0 -16.2)",
+        "POLYGON ((179.999 -16.05, -179.999 -16.05, -179.999 -16.04, 179.999 -16.04, 179.999 -16.05))",
+    ]
+    .iter()
+    .map(|t| prepare(t))
+    .collect();
+    check_against_brute_force(&layer, &blocks);
+    assert!(layer.reached(&blocks[0]) && layer.reached(&blocks[1]) && layer.reached(&blocks[2]));
+    assert!(!layer.reached(&blocks[3]));
+}
+
+#[test]
+fn a_block_in_a_parks_hole_is_at_the_holes_distance() {
+    let park =
+        "POLYGON ((-131.10 38.40, -131.00 38.40, -131.00 38.48, -131.10 38.48, -131.10 38.40), \
+                (-131.06 38.43, -131.04 38.43, -131.04 38.45, -131.06 38.45, -131.06 38.43))";
+    let layer = Layer::new(vec![feature(1, park, 100.0)]);
+    let block = prepare("POLYGON ((-131.051 38.439, -131.049 38.439, -131.049 38.441, -131.051 38.441, -131.051 38.439))");
+    let d = layer.nearest(&block, None).unwrap();
+    assert!(d > 700.0 && d < 900.0, "{d}");
+    assert!(!layer.reached(&block));
+    let layer = Layer::new(vec![feature(1, park, 900.0)]);
+    assert!(layer.reached(&block));
+}
+
+#[test]
+fn a_200000_vertex_polygon_is_indexed_and_answers_exactly() {
+    // A ragged forest boundary: 200,000 vertices on a circle of ~0.5 degrees
+    // with a saw-tooth of 0.002 degrees.
+    let n = 200_000;
+    let (cx, cy) = (-131.0f64, 38.5f64);
+    let k = 1.0 / cy.to_radians().cos();
+    let mut pts: Vec<String> = (0..n)
+        .map(|i| {
+            let t = i as f64 / n as f64 * std::f64::consts::TAU;
+            let r = 0.5 + if i % 2 == 0 { 0.002 } else { 0.0 };
+            format!("{} {}", cx + r * k * t.cos(), cy + r * t.sin())
+        })
+        .collect();
+    pts.push(pts[0].clone());
+    let big = feature(1, &format!("POLYGON (({}))", pts.join(", ")), 804.672);
+    assert!(
+        big.geometry.index.is_some(),
+        "large polygons get an element index"
+    );
+    let layer = Layer::new(vec![big]);
+    let mut rng = XorShift(0xb16_f0e5);
+    let blocks: Vec<Prepared> = (0..30)
+        .map(|i| {
+            // Inside, just outside and well outside the boundary.
+            let r = [0.3, 0.505, 0.512, 0.52, 0.6][i % 5] + rng.uniform(-0.002, 0.002);
+            let t = rng.uniform(0.0, std::f64::consts::TAU);
+            let c = (cx + r * k * t.cos(), cy + r * t.sin());
+            prepare(&format!("POLYGON ({})", ring(&mut rng, c, 10, 0.001)))
+        })
+        .collect();
+    let (reached, _) = check_against_brute_force(&layer, &blocks);
+    assert!(reached > 8 && reached < 30, "{reached}");
+}
+
+#[test]
+fn empty_blocks_reach_nothing() {
+    let layer = Layer::new(vec![feature(1, "POINT (-131 38.5)", 1e6)]);
+    let empty = prepare("POLYGON EMPTY");
+    assert!(!layer.reached(&empty));
+    assert_eq!(layer.count(&empty, None), 0);
+    assert!(layer.near(&empty, None).is_empty());
+    assert_eq!(layer.nearest(&empty, None), None);
+}
