@@ -12,10 +12,10 @@ Written as a strong analyst would with shapely 2, pyproj, numpy and sqlite3.
 Caveat: distances here are planar, in a local projected CRS chosen from the
 blocks' extent (transverse Mercator or Lambert azimuthal equal-area centred on
 it). They differ from geodesic distances on the WGS84 ellipsoid by the
-projection's scale error (about 1e-6 relative over a county, growing with the
-square of the distance from the centre), and a straight projected edge is not
-a geodesic edge, so blocks near a threshold can be decided differently from an
-exact geodesic computation: one of the reasons ambit exists. The benchmark
+projection's scale error (1e-6 to 1e-5 relative over a county, growing with
+the square of the distance from the centre), and a straight projected edge is
+not a geodesic edge, so blocks near a threshold can be decided differently from
+an exact geodesic computation: one of the reasons ambit exists. The benchmark
 compares speed; `--compare ambit.csv` (columns fid, reached) counts the blocks
 whose `reached` differs. `--self-test` runs on a tiny file it builds itself.
 """

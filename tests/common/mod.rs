@@ -38,8 +38,15 @@ pub fn shell(sql: &str) -> ShellRun {
 
 /// Runs `sql` in the sqlite3 shell with the given command-line arguments.
 pub fn shell_with(args: &[&str], sql: &str) -> ShellRun {
+    shell_env(args, &[], sql)
+}
+
+/// Runs `sql` in the sqlite3 shell with the given arguments and extra
+/// environment variables.
+pub fn shell_env(args: &[&str], env: &[(&str, &str)], sql: &str) -> ShellRun {
     let mut child = Command::new(SHELL)
         .args(args)
+        .envs(env.iter().copied())
         .stdin(Stdio::piped())
         .stdout(Stdio::piped())
         .stderr(Stdio::piped())

@@ -1,0 +1,601 @@
+//! The invented region of `ambit-region` (src/bin/ambit-region.rs) and
+//! `demo-db/build-region`: the generator is deterministic, its blocks tile
+//! the land exactly (same vertices on both sides of every shared edge,
+//! areas that add up to the counties'), its GEOIDs follow the census-style
+//! layout, and the GeoPackage it builds in the stock shell carries the
+//! tables and metadata OGC 12-128 asks for.
+
+mod common;
+
+use ambit::blob::wkt;
+use ambit::geodesy::area::geometry_area;
+use ambit::geometry::validate::validate;
+use ambit::geometry::{Geometry, Shape};
+use std::collections::{HashMap, HashSet};
+use std::path::{Path, PathBuf};
+use std::process::Command;
+
+const GENERATOR: &str = env!("CARGO_BIN_EXE_ambit-region");
+const TABLES: [&str; 6] = [
+    "counties",
+    "blocks",
+    "parks",
+    "rec_sites",
+    "fitness_list",
+    "urban_areas",
+];
+
+/// A fresh folder under the system temp dir, removed when dropped.
+struct TempDir(PathBuf);
+
+impl TempDir {
+    fn new(name: &str) -> TempDir {
+        let dir = std::env::temp_dir().join(format!("ambit-region-{}-{name}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&dir);
+        std::fs::create_dir_all(&dir).unwrap();
+        TempDir(dir)
+    }
+}
+
+impl Drop for TempDir {
+    fn drop(&mut self) {
+        let _ = std::fs::remove_dir_all(&self.0);
+    }
+}
+
+fn generate(blocks: usize, seed: u64, name: &str) -> TempDir {
+    let dir = TempDir::new(name);
+    let out = Command::new(GENERATOR)
+        .args(["--blocks", &blocks.to_string(), "--seed", &seed.to_string()])
+        .arg("--out")
+        .arg(&dir.0)
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "ambit-region failed: {}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    dir
+}
+
+/// Reads an RFC 4180 file: CRLF rows, quoted fields with doubled quotes.
+fn read_csv(path: &Path) -> Vec<Vec<String>> {
+    let text = std::fs::read_to_string(path).unwrap();
+    let mut rows = Vec::new();
+    let mut row = Vec::new();
+    let mut field = String::new();
+    let mut chars = text.chars().peekable();
+    let mut quoted = false;
+    while let Some(c) = chars.next() {
+        if quoted {
+            match c {
+                '"' if chars.peek() == Some(&'"') => {
+                    chars.next();
+                    field.push('"');
+                }
+                '"' => quoted = false,
+                _ => field.push(c),
+            }
+            continue;
+        }
+        match c {
+            '"' => quoted = true,
+            ',' => row.push(std::mem::take(&mut field)),
+            '\r' => assert_eq!(chars.next(), Some('\n'), "{}: bare CR", path.display()),
+            '\n' => panic!("{}: row ended by LF alone, not CRLF", path.display()),
+            _ => field.push(c),
+        }
+        if c == '\r' {
+            row.push(std::mem::take(&mut field));
+            rows.push(std::mem::take(&mut row));
+        }
+    }
+    assert!(
+        !quoted && row.is_empty() && field.is_empty(),
+        "unterminated row"
+    );
+    rows
+}
+
+/// The rows of a table without the header, checked against the header.
+fn table(dir: &Path, name: &str, header: &[&str]) -> Vec<Vec<String>> {
+    let mut rows = read_csv(&dir.join(format!("{name}.csv")));
+    assert_eq!(rows.remove(0), header, "{name}.csv header");
+    for r in &rows {
+        assert_eq!(r.len(), header.len(), "{name}.csv row {r:?}");
+    }
+    rows
+}
+
+fn rings(g: &Geometry) -> Vec<&Vec<f64>> {
+    match &g.shape {
+        Shape::Polygon(r) => r.iter().collect(),
+        Shape::MultiPolygon(p) => p.iter().flatten().collect(),
+        other => panic!("not a surface: {other:?}"),
+    }
+}
+
+type Edge = [u64; 4];
+
+fn edges(ring: &[f64]) -> impl Iterator<Item = Edge> + '_ {
+    ring.chunks_exact(2)
+        .zip(ring.chunks_exact(2).skip(1))
+        .map(|(a, b)| {
+            [
+                a[0].to_bits(),
+                a[1].to_bits(),
+                b[0].to_bits(),
+                b[1].to_bits(),
+            ]
+        })
+}
+
+fn reversed(e: Edge) -> Edge {
+    [e[2], e[3], e[0], e[1]]
+}
+
+/// Whether segments ab and cd share a point (collinear overlaps included).
+fn segments_meet(a: [f64; 2], b: [f64; 2], c: [f64; 2], d: [f64; 2]) -> bool {
+    let orient = |p: [f64; 2], q: [f64; 2], r: [f64; 2]| {
+        let v = (q[0] - p[0]) * (r[1] - p[1]) - (q[1] - p[1]) * (r[0] - p[0]);
+        (v > 0.0) as i8 - (v < 0.0) as i8
+    };
+    let within = |p: [f64; 2], q: [f64; 2], r: [f64; 2]| {
+        r[0] >= p[0].min(q[0])
+            && r[0] <= p[0].max(q[0])
+            && r[1] >= p[1].min(q[1])
+            && r[1] <= p[1].max(q[1])
+    };
+    let (o1, o2, o3, o4) = (
+        orient(a, b, c),
+        orient(a, b, d),
+        orient(c, d, a),
+        orient(c, d, b),
+    );
+    if o1 != o2 && o3 != o4 && o1 * o2 <= 0 && o3 * o4 <= 0 && (o1 != 0 || o2 != 0) {
+        return true;
+    }
+    (o1 == 0 && within(a, b, c))
+        || (o2 == 0 && within(a, b, d))
+        || (o3 == 0 && within(c, d, a))
+        || (o4 == 0 && within(c, d, b))
+}
+
+/// A closed ring is simple: no two edges meet except neighbours at their
+/// shared vertex. Edges are swept by latitude, so long rings stay cheap.
+fn ring_is_simple(ring: &[f64]) -> bool {
+    let v: Vec<[f64; 2]> = ring.chunks_exact(2).map(|p| [p[0], p[1]]).collect();
+    let n = v.len() - 1;
+    let lo = |i: usize| v[i][1].min(v[i + 1][1]);
+    let hi = |i: usize| v[i][1].max(v[i + 1][1]);
+    let mut order: Vec<usize> = (0..n).collect();
+    order.sort_by(|&a, &b| lo(a).total_cmp(&lo(b)));
+    for (k, &i) in order.iter().enumerate() {
+        for &j in &order[k + 1..] {
+            if lo(j) > hi(i) {
+                break;
+            }
+            let (a, b) = (i.min(j), i.max(j));
+            if b == a + 1 || (a == 0 && b == n - 1) {
+                continue;
+            }
+            if segments_meet(v[a], v[a + 1], v[b], v[b + 1]) {
+                return false;
+            }
+        }
+    }
+    true
+}
+
+fn signed_area(ring: &[f64]) -> f64 {
+    ring.chunks_exact(2)
+        .zip(ring.chunks_exact(2).skip(1))
+        .map(|(a, b)| a[0] * b[1] - b[0] * a[1])
+        .sum::<f64>()
+        / 2.0
+}
+
+#[test]
+fn same_seed_same_bytes_other_seed_other_region() {
+    let a = generate(3000, 7, "det-a");
+    let b = generate(3000, 7, "det-b");
+    let c = generate(3000, 8, "det-c");
+    for t in TABLES {
+        let file = format!("{t}.csv");
+        let x = std::fs::read(a.0.join(&file)).unwrap();
+        let y = std::fs::read(b.0.join(&file)).unwrap();
+        assert!(x == y, "{file} differs between two runs with seed 7");
+    }
+    let x = std::fs::read(a.0.join("blocks.csv")).unwrap();
+    let z = std::fs::read(c.0.join("blocks.csv")).unwrap();
+    assert!(x != z, "seeds 7 and 8 gave the same blocks");
+    let x = std::fs::read(a.0.join("parks.csv")).unwrap();
+    let z = std::fs::read(c.0.join("parks.csv")).unwrap();
+    assert!(x != z, "seeds 7 and 8 gave the same parks");
+}
+
+#[test]
+fn blocks_tile_the_counties_exactly() {
+    let dir = generate(3000, 3, "tiling");
+    let counties = table(&dir.0, "counties", &["fid", "geoid", "name", "wkt"]);
+    let blocks = table(
+        &dir.0,
+        "blocks",
+        &["fid", "geoid", "population", "water", "wkt"],
+    );
+    assert_eq!(counties.len(), 6);
+    assert!(
+        (2500..=3500).contains(&blocks.len()),
+        "{} blocks for a target of 3000",
+        blocks.len()
+    );
+
+    // County areas and outer-boundary edges.
+    let mut county_area: HashMap<String, f64> = HashMap::new();
+    let mut boundary: HashSet<Edge> = HashSet::new();
+    let mut multi = 0;
+    for c in &counties {
+        let g = wkt::parse(&c[3]).unwrap();
+        validate(&g, 4326).unwrap();
+        let Shape::MultiPolygon(parts) = &g.shape else {
+            panic!("county {} is not a MULTIPOLYGON", c[1]);
+        };
+        multi += (parts.len() > 1) as usize;
+        for ring in rings(&g) {
+            assert!(
+                ring_is_simple(ring),
+                "county {} has a self-crossing ring",
+                c[1]
+            );
+            for e in edges(ring) {
+                assert!(boundary.insert(e), "county edge {e:?} repeated");
+            }
+        }
+        county_area.insert(c[1].clone(), geometry_area(&g));
+    }
+    assert_eq!(multi, 1, "one county has an island");
+
+    // (a) every block ring is closed, has >= 4 points, is valid, simple and
+    // counter-clockwise, with about 40 vertices.
+    let mut block_area: HashMap<String, f64> = HashMap::new();
+    let mut count: HashMap<Edge, u32> = HashMap::new();
+    for b in &blocks {
+        let g = wkt::parse(&b[4]).unwrap();
+        validate(&g, 4326).unwrap_or_else(|e| panic!("block {}: {e}", b[1]));
+        let Shape::Polygon(r) = &g.shape else {
+            panic!("block {} is not a POLYGON", b[1]);
+        };
+        assert_eq!(r.len(), 1, "block {} has holes", b[1]);
+        let ring = &r[0];
+        let n = ring.len() / 2;
+        assert!((41..=81).contains(&n), "block {} has {n} points", b[1]);
+        assert_eq!(
+            ring[..2],
+            ring[ring.len() - 2..],
+            "block {} not closed",
+            b[1]
+        );
+        assert!(signed_area(ring) > 0.0, "block {} is clockwise", b[1]);
+        assert!(ring_is_simple(ring), "block {} crosses itself", b[1]);
+        for e in edges(ring) {
+            *count.entry(e).or_default() += 1;
+        }
+        *block_area.entry(b[1][..5].to_string()).or_default() += geometry_area(&g);
+    }
+
+    // (b) block areas add up to their county's area.
+    let total_blocks: f64 = block_area.values().sum();
+    let total_counties: f64 = county_area.values().sum();
+    assert!(
+        ((total_blocks - total_counties) / total_counties).abs() < 1e-9,
+        "blocks {total_blocks} m2, counties {total_counties} m2"
+    );
+    for (geoid, area) in &county_area {
+        let b = block_area[geoid];
+        assert!(
+            ((b - area) / area).abs() < 1e-9,
+            "county {geoid}: blocks {b} m2, county {area} m2"
+        );
+    }
+
+    // (c) every block edge off the county boundaries is shared: once each
+    // way; every county edge is a block edge in the same direction.
+    for (&e, &n) in &count {
+        assert_eq!(n, 1, "block edge {e:?} used {n} times");
+        if boundary.contains(&e) {
+            assert!(
+                !count.contains_key(&reversed(e)),
+                "county edge {e:?} inside"
+            );
+        } else {
+            assert_eq!(
+                count.get(&reversed(e)),
+                Some(&1),
+                "block edge {e:?} has no twin and is on no county boundary"
+            );
+        }
+    }
+    for e in &boundary {
+        assert!(count.contains_key(e), "county edge {e:?} is on no block");
+    }
+}
+
+#[test]
+fn geoids_follow_state_county_tract_block() {
+    let dir = generate(3000, 11, "geoids");
+    let counties = table(&dir.0, "counties", &["fid", "geoid", "name", "wkt"]);
+    let blocks = table(
+        &dir.0,
+        "blocks",
+        &["fid", "geoid", "population", "water", "wkt"],
+    );
+    let county_ids: HashSet<&str> = counties.iter().map(|c| c[1].as_str()).collect();
+    for c in &county_ids {
+        assert!(c.len() == 5 && c.starts_with("99"), "county geoid {c}");
+        let code: u32 = c[2..].parse().unwrap();
+        assert!(code % 2 == 1, "county code {c} is not odd");
+    }
+    let mut seen = HashSet::new();
+    let (mut water, mut empty) = (0, 0);
+    for (i, b) in blocks.iter().enumerate() {
+        let geoid = &b[1];
+        assert_eq!(geoid.len(), 15, "{geoid}");
+        assert!(geoid.bytes().all(|c| c.is_ascii_digit()), "{geoid}");
+        assert!(county_ids.contains(&geoid[..5]), "{geoid}: no such county");
+        assert!(seen.insert(geoid.clone()), "{geoid} repeated");
+        assert_eq!(b[0], (i + 1).to_string(), "fids count from 1");
+        let pop: u32 = b[2].parse().unwrap();
+        assert!(pop <= 400, "{geoid}: {pop} residents");
+        water += (b[3] == "1") as u32;
+        empty += (pop == 0) as u32;
+        if b[3] == "1" {
+            assert_eq!(pop, 0, "water block {geoid} has residents");
+        }
+    }
+    assert!((1..=2).contains(&water), "{water} water blocks");
+    assert!(empty > 0, "no block without residents");
+}
+
+#[test]
+fn features_are_plausible() {
+    let dir = generate(3000, 5, "features");
+    let blocks = read_csv(&dir.0.join("blocks.csv")).len() - 1;
+    let parks = table(&dir.0, "parks", &["fid", "park_id", "name", "wkt"]);
+    let rec = table(
+        &dir.0,
+        "rec_sites",
+        &["fid", "site_code", "site_name", "activity", "wkt"],
+    );
+    let fit = table(
+        &dir.0,
+        "fitness_list",
+        &[
+            "fid",
+            "license_no",
+            "business",
+            "category",
+            "lon",
+            "lat",
+            "wkt",
+        ],
+    );
+    let urban = table(&dir.0, "urban_areas", &["fid", "name", "wkt"]);
+    // About 1 park per 65 blocks, plus the three special ones.
+    assert!(
+        parks.len() * 65 > blocks / 2 && parks.len() * 65 < blocks * 2,
+        "{} parks for {blocks} blocks",
+        parks.len()
+    );
+    let mut most = 0;
+    for p in &parks {
+        let g = wkt::parse(&p[3]).unwrap();
+        validate(&g, 4326).unwrap();
+        for r in rings(&g) {
+            assert!(ring_is_simple(r), "park {} crosses itself", p[1]);
+        }
+        most = most.max(g.vertex_count());
+    }
+    assert!(most > 20_000, "the largest park has {most} vertices");
+    // About 2 facilities per 200 blocks; few enough at this size to allow
+    // a wide margin.
+    let facilities = rec.len() + fit.len();
+    assert!(
+        facilities * 100 > blocks / 3 && facilities * 100 < blocks * 3,
+        "{facilities} facilities for {blocks} blocks"
+    );
+    for f in &fit {
+        if f[6].is_empty() {
+            assert!(f[4].is_empty() && f[5].is_empty());
+            continue;
+        }
+        assert_eq!(f[6], format!("POINT ({} {})", f[4], f[5]));
+    }
+    let names: Vec<&str> = urban.iter().map(|u| u[1].as_str()).collect();
+    assert!((3..=4).contains(&names.len()), "urban areas {names:?}");
+}
+
+/// Builds the GeoPackage with demo-db/build-region and this test run's
+/// library.
+fn build_gpkg(blocks: usize, seed: u64, out: &Path) {
+    let script = Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-db/build-region");
+    let run = Command::new(script)
+        .args([&blocks.to_string(), &seed.to_string()])
+        .arg(out)
+        .env("AMBIT_LIB", common::library().with_extension(""))
+        .env("AMBIT_REGION_BIN", GENERATOR)
+        .env("SQLITE3", common::SHELL)
+        .output()
+        .unwrap();
+    assert!(
+        run.status.success(),
+        "build-region failed:\n{}\n{}",
+        String::from_utf8_lossy(&run.stdout),
+        String::from_utf8_lossy(&run.stderr)
+    );
+}
+
+fn gpkg_query(db: &Path, sql: &str) -> String {
+    let run = common::shell_with(&[db.to_str().unwrap()], sql);
+    assert!(
+        run.status == 0 && run.stderr.is_empty(),
+        "{sql}\n{}",
+        run.stderr
+    );
+    run.stdout.trim_end().to_string()
+}
+
+#[test]
+fn build_region_makes_a_geopackage() {
+    let dir = TempDir::new("gpkg");
+    let db = dir.0.join("region.gpkg");
+    build_gpkg(3000, 2, &db);
+    let q = |sql: &str| gpkg_query(&db, sql);
+
+    assert_eq!(q("PRAGMA application_id;"), "1196444487");
+    assert_eq!(q("PRAGMA user_version;"), "10300");
+    assert_eq!(q("PRAGMA integrity_check;"), "ok");
+    assert_eq!(q("PRAGMA foreign_key_check;"), "");
+    assert_eq!(
+        q(
+            "SELECT srs_id, organization, organization_coordsys_id, definition = 'undefined' \
+           FROM gpkg_spatial_ref_sys ORDER BY srs_id;"
+        ),
+        "-1|NONE|-1|1\n0|NONE|0|1\n4326|EPSG|4326|0"
+    );
+    assert!(
+        q("SELECT definition FROM gpkg_spatial_ref_sys WHERE srs_id = 4326;")
+            .starts_with("GEOGCS[\"WGS 84\"")
+    );
+    // No staging tables left behind.
+    assert_eq!(
+        q(
+            "SELECT group_concat(name, ' ') FROM (SELECT name FROM sqlite_master \
+           WHERE type = 'table' ORDER BY name);"
+        ),
+        "blocks counties fitness_list gpkg_contents gpkg_geometry_columns \
+         gpkg_spatial_ref_sys parks rec_sites urban_areas"
+    );
+
+    let types = [
+        ("counties", "MULTIPOLYGON"),
+        ("blocks", "POLYGON"),
+        ("parks", "GEOMETRY"),
+        ("rec_sites", "POINT"),
+        ("fitness_list", "POINT"),
+        ("urban_areas", "MULTIPOLYGON"),
+    ];
+    let csv = TempDir::new("gpkg-csv");
+    let out = Command::new(GENERATOR)
+        .args(["--blocks", "3000", "--seed", "2", "--out"])
+        .arg(&csv.0)
+        .output()
+        .unwrap();
+    assert!(out.status.success());
+    for (t, kind) in types {
+        assert_eq!(
+            q(&format!(
+                "SELECT data_type, srs_id, description LIKE 'Invented data%', \
+                 min_x < max_x AND min_y < max_y FROM gpkg_contents WHERE table_name = '{t}';"
+            )),
+            "features|4326|1|1",
+            "gpkg_contents row of {t}"
+        );
+        assert_eq!(
+            q(&format!(
+                "SELECT column_name, geometry_type_name, srs_id, z, m \
+                 FROM gpkg_geometry_columns WHERE table_name = '{t}';"
+            )),
+            format!("geom|{kind}|4326|0|0"),
+            "gpkg_geometry_columns row of {t}"
+        );
+        let rows = read_csv(&csv.0.join(format!("{t}.csv"))).len() - 1;
+        assert_eq!(
+            q(&format!("SELECT count(*) FROM {t};")),
+            rows.to_string(),
+            "rows of {t}"
+        );
+        assert_eq!(
+            q(&format!(
+                "SELECT count(*) FROM {t} WHERE geom IS NOT NULL AND ST_SRID(geom) != 4326;"
+            )),
+            "0",
+            "srs of {t}"
+        );
+        // The extent in gpkg_contents holds every geometry's first vertex.
+        assert_eq!(
+            q(&format!(
+                "SELECT count(*) FROM {t}, gpkg_contents c WHERE c.table_name = '{t}' \
+                 AND ST_GeometryType(geom) = 'POINT' \
+                 AND NOT (ST_X(geom) BETWEEN c.min_x AND c.max_x \
+                          AND ST_Y(geom) BETWEEN c.min_y AND c.max_y);"
+            )),
+            "0",
+            "extent of {t}"
+        );
+    }
+    assert_eq!(q("SELECT count(*) FROM gpkg_contents;"), "6");
+    assert_eq!(q("SELECT count(*) FROM gpkg_geometry_columns;"), "6");
+    assert_eq!(
+        q("SELECT count(*) FROM blocks WHERE ST_SRID(geom) != 4326;"),
+        "0"
+    );
+    assert_eq!(
+        q(
+            "SELECT count(*) FROM blocks WHERE typeof(population) != 'integer' \
+           OR typeof(water) != 'integer' OR length(geoid) != 15;"
+        ),
+        "0"
+    );
+    // lon and lat of the licensing list are its points' coordinates.
+    assert_eq!(
+        q("SELECT count(*) FROM fitness_list WHERE lon IS NOT ST_X(geom) OR lat IS NOT ST_Y(geom);"),
+        "0"
+    );
+    // The last three parks: the coastal forest, the one across a county
+    // line, the one across the state line.
+    let reach = |offset: u32| {
+        q(&format!(
+            "SELECT (SELECT count(*) FROM counties c WHERE ambit_within(c.geom, p.geom, 0)) \
+             FROM parks p ORDER BY fid DESC LIMIT 1 OFFSET {offset};"
+        ))
+    };
+    assert_eq!(reach(0), "0", "the park across the state line");
+    assert_eq!(reach(1), "2", "the park across a county line");
+    assert_ne!(reach(2), "0", "the coastal forest");
+    // Some licences repeat a registry site within 20 m.
+    let dups: u32 = q("SELECT count(*) FROM fitness_list f WHERE EXISTS \
+                       (SELECT 1 FROM rec_sites r WHERE ambit_within(f.geom, r.geom, 20));")
+    .parse()
+    .unwrap();
+    let fitness: u32 = q("SELECT count(*) FROM fitness_list;").parse().unwrap();
+    assert!(
+        dups >= 1 && dups * 4 < fitness,
+        "{dups} of {fitness} repeat a site"
+    );
+
+    // The same statements give the same file.
+    let again = dir.0.join("again.gpkg");
+    build_gpkg(3000, 2, &again);
+    assert!(
+        std::fs::read(&db).unwrap() == std::fs::read(&again).unwrap(),
+        "two builds with the same seed differ"
+    );
+}
+
+#[test]
+fn build_region_explains_a_missing_library() {
+    let dir = TempDir::new("nolib");
+    let script = Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-db/build-region");
+    let run = Command::new(script)
+        .args(["3000", "1"])
+        .arg(dir.0.join("x.gpkg"))
+        .env("AMBIT_LIB", dir.0.join("libambit"))
+        .env("AMBIT_REGION_BIN", GENERATOR)
+        .output()
+        .unwrap();
+    assert!(!run.status.success());
+    let err = String::from_utf8_lossy(&run.stderr);
+    assert!(err.contains("cargo build --release"), "{err}");
+    assert!(!dir.0.join("x.gpkg").exists());
+}
