@@ -9,6 +9,7 @@
 
 pub mod geojson;
 pub mod gpkg;
+pub mod gpkg_tables;
 pub mod wkb;
 pub mod wkt;
 

@@ -9,6 +9,7 @@
 
 pub mod args;
 pub mod entry;
+pub mod gpkg;
 pub mod info;
 pub mod io;
 pub mod layer;
@@ -92,6 +93,7 @@ pub fn register(conn: &Connection) -> rusqlite::Result<()> {
         }
     }
     layer::register_aggregate(conn, &state)?;
+    gpkg::register(conn)?;
     tables::register(conn, &state)?;
     Ok(())
 }

@@ -1,0 +1,258 @@
+//! ambit_gpkg_register(table, column [, type]): makes a table of geometry
+//! blobs a GeoPackage features layer, so any GeoPackage reader opens it.
+//!
+//! It reads the column (never changing a row), checks that every non-NULL
+//! value is a GeoPackage geometry blob and that all share one srs_id, then
+//! writes the container's metadata: creates gpkg_spatial_ref_sys,
+//! gpkg_contents and gpkg_geometry_columns if missing, adds the required
+//! spatial reference rows, a gpkg_contents row (data_type 'features', the
+//! column's extent, the srs_id) and a gpkg_geometry_columns row (the type
+//! given, or the common type of the rows, or GEOMETRY; z and m flags from
+//! the rows), and sets the file's application_id and user_version when the
+//! file has none. Returns the number of geometries registered. The
+//! definitions come from crate::blob::gpkg_tables.
+
+use rusqlite::functions::{Context, FunctionFlags};
+use rusqlite::types::ValueRef;
+use rusqlite::Connection;
+
+use crate::blob::{self, gpkg, gpkg_tables};
+use crate::sql::{error, guard};
+
+const NAME: &str = "ambit_gpkg_register";
+
+/// Registers ambit_gpkg_register with 2 and 3 arguments.
+pub fn register(conn: &Connection) -> rusqlite::Result<()> {
+    for arity in 2..=3 {
+        conn.create_scalar_function(
+            NAME,
+            arity,
+            FunctionFlags::SQLITE_UTF8 | FunctionFlags::SQLITE_DIRECTONLY,
+            |ctx| guard(NAME, || call(ctx)),
+        )?;
+    }
+    Ok(())
+}
+
+fn text_arg(ctx: &Context<'_>, i: usize, param: &str) -> rusqlite::Result<String> {
+    match ctx.get_raw(i) {
+        ValueRef::Text(t) => Ok(String::from_utf8_lossy(t).into_owned()),
+        _ => Err(error(
+            NAME,
+            format!("argument {} ({param}) must be text", i + 1),
+        )),
+    }
+}
+
+/// A quoted SQL identifier.
+fn ident(name: &str) -> String {
+    format!("\"{}\"", name.replace('"', "\"\""))
+}
+
+/// What the column holds.
+struct Survey {
+    rows: i64,
+    srs_id: Option<i32>,
+    types: Vec<String>,
+    has_z: bool,
+    has_m: bool,
+    all_z: bool,
+    all_m: bool,
+    extent: Option<[f64; 4]>,
+}
+
+fn survey(conn: &Connection, table: &str, column: &str) -> rusqlite::Result<Survey> {
+    let mut stmt = conn.prepare(&format!(
+        "SELECT rowid, {} FROM {}",
+        ident(column),
+        ident(table)
+    ))?;
+    let mut rows = stmt.query([])?;
+    let mut s = Survey {
+        rows: 0,
+        srs_id: None,
+        types: Vec::new(),
+        has_z: false,
+        has_m: false,
+        all_z: true,
+        all_m: true,
+        extent: None,
+    };
+    while let Some(row) = rows.next()? {
+        let rowid: i64 = row.get(0)?;
+        let bytes = match row.get_ref(1)? {
+            ValueRef::Null => continue,
+            ValueRef::Blob(b) => b,
+            other => {
+                return Err(error(
+                    NAME,
+                    format!(
+                        "column '{column}' of '{table}' holds a {} value in the row with rowid {rowid}; only geometry blobs can be registered",
+                        match other {
+                            ValueRef::Integer(_) => "integer",
+                            ValueRef::Real(_) => "real",
+                            _ => "text",
+                        }
+                    ),
+                ))
+            }
+        };
+        let fail = |what: String| {
+            error(
+                NAME,
+                format!("column '{column}' of '{table}', row with rowid {rowid}: {what}"),
+            )
+        };
+        if blob::encoding(bytes).map_err(|e| fail(e.to_string()))? != blob::Encoding::GeoPackage {
+            return Err(fail(
+                "holds plain WKB; a GeoPackage layer needs GeoPackage geometry blobs (make them with ST_GeomFromWKB into a new column)".to_string(),
+            ));
+        }
+        let (g, header) = gpkg::read(bytes).map_err(|e| fail(e.to_string()))?;
+        match s.srs_id {
+            None => s.srs_id = Some(header.srs_id),
+            Some(srs) if srs != header.srs_id => {
+                return Err(fail(format!(
+                    "srs_id {} differs from srs_id {srs} of earlier rows; a GeoPackage layer has one spatial reference",
+                    header.srs_id
+                )))
+            }
+            Some(_) => {}
+        }
+        let name = g.geometry_type().gpkg_name().to_string();
+        if !s.types.contains(&name) {
+            s.types.push(name);
+        }
+        s.has_z |= g.dims.has_z();
+        s.has_m |= g.dims.has_m();
+        s.all_z &= g.dims.has_z();
+        s.all_m &= g.dims.has_m();
+        if let Some(e) = g.envelope() {
+            s.extent = Some(match s.extent {
+                None => [e.min_x, e.min_y, e.max_x, e.max_y],
+                Some([a, b, c, d]) => [
+                    a.min(e.min_x),
+                    b.min(e.min_y),
+                    c.max(e.max_x),
+                    d.max(e.max_y),
+                ],
+            });
+        }
+        s.rows += 1;
+    }
+    Ok(s)
+}
+
+fn call(ctx: &Context<'_>) -> rusqlite::Result<i64> {
+    let table = text_arg(ctx, 0, "table")?;
+    let column = text_arg(ctx, 1, "column")?;
+    let declared = if ctx.len() > 2 {
+        let t = text_arg(ctx, 2, "type")?.to_uppercase();
+        if !gpkg_tables::TYPE_NAMES.contains(&t.as_str()) {
+            return Err(error(
+                NAME,
+                format!(
+                    "argument 3 (type) '{t}' is not a GeoPackage geometry type; use one of {}",
+                    gpkg_tables::TYPE_NAMES.join(", ")
+                ),
+            ));
+        }
+        Some(t)
+    } else {
+        None
+    };
+    // SAFETY: the connection this function was called on, used only within
+    // this call and on this thread, to read the table and write metadata.
+    let conn = unsafe { ctx.get_connection()? };
+    let columns: Vec<String> = {
+        let mut stmt = conn.prepare("SELECT name FROM pragma_table_info(?1)")?;
+        let names = stmt.query_map([&table], |r| r.get::<_, String>(0))?;
+        names.collect::<Result<_, _>>()?
+    };
+    if columns.is_empty() {
+        return Err(error(NAME, format!("no table named '{table}'")));
+    }
+    if !columns.iter().any(|c| c.eq_ignore_ascii_case(&column)) {
+        return Err(error(
+            NAME,
+            format!(
+                "table '{table}' has no column '{column}' (its columns: {})",
+                columns.join(", ")
+            ),
+        ));
+    }
+    let s = survey(&conn, &table, &column)?;
+    let srs_id = s.srs_id.unwrap_or(4326);
+    let found = gpkg_tables::column_type(s.types.iter().map(String::as_str)).to_string();
+    let type_name = match declared {
+        Some(t) => {
+            if let Some(bad) = s.types.iter().find(|st| !gpkg_tables::assignable(st, &t)) {
+                return Err(error(
+                    NAME,
+                    format!("column '{column}' of '{table}' holds {bad} geometries, which a {t} column cannot hold (OGC 12-128, Requirement 32)"),
+                ));
+            }
+            t
+        }
+        None => found,
+    };
+    conn.execute_batch(gpkg_tables::CREATE_TABLES)?;
+    for r in gpkg_tables::SPATIAL_REFS {
+        conn.execute(
+            "INSERT OR IGNORE INTO gpkg_spatial_ref_sys (srs_name, srs_id, organization, organization_coordsys_id, definition, description) VALUES (?1, ?2, ?3, ?4, ?5, ?6)",
+            rusqlite::params![r.srs_name, r.srs_id, r.organization, r.organization_coordsys_id, r.definition, r.description],
+        )?;
+    }
+    let known: i64 = conn.query_row(
+        "SELECT count(*) FROM gpkg_spatial_ref_sys WHERE srs_id = ?1",
+        [srs_id],
+        |r| r.get(0),
+    )?;
+    if known == 0 {
+        return Err(error(
+            NAME,
+            format!("srs_id {srs_id} of column '{column}' is not in gpkg_spatial_ref_sys; add its definition there first"),
+        ));
+    }
+    let extent = s.extent.map(|e| e.to_vec());
+    let e = |i: usize| extent.as_ref().map(|v| v[i]);
+    conn.execute(
+        "INSERT INTO gpkg_contents (table_name, data_type, identifier, min_x, min_y, max_x, max_y, srs_id)
+         VALUES (?1, 'features', ?1, ?2, ?3, ?4, ?5, ?6)
+         ON CONFLICT(table_name) DO UPDATE SET data_type = 'features',
+           last_change = strftime('%Y-%m-%dT%H:%M:%fZ','now'),
+           min_x = excluded.min_x, min_y = excluded.min_y, max_x = excluded.max_x,
+           max_y = excluded.max_y, srs_id = excluded.srs_id",
+        rusqlite::params![table, e(0), e(1), e(2), e(3), srs_id],
+    )?;
+    let flag = |any: bool, all: bool| {
+        if !any {
+            0
+        } else if all {
+            1
+        } else {
+            2
+        }
+    };
+    conn.execute(
+        "INSERT OR REPLACE INTO gpkg_geometry_columns (table_name, column_name, geometry_type_name, srs_id, z, m)
+         VALUES (?1, ?2, ?3, ?4, ?5, ?6)",
+        rusqlite::params![
+            table,
+            column,
+            type_name,
+            srs_id,
+            flag(s.has_z, s.all_z),
+            flag(s.has_m, s.all_m)
+        ],
+    )?;
+    let application_id: i64 = conn.query_row("PRAGMA application_id", [], |r| r.get(0))?;
+    if application_id == 0 {
+        conn.execute_batch(&format!(
+            "PRAGMA application_id = {}; PRAGMA user_version = {};",
+            gpkg_tables::APPLICATION_ID,
+            gpkg_tables::USER_VERSION
+        ))?;
+    }
+    Ok(s.rows)
+}
