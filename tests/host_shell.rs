@@ -34,6 +34,7 @@ const FUNCTIONS: &[&str] = &[
     "ambit_reached",
     "ambit_nearest",
     "ambit_count",
+    "ambit_gpkg_register",
     "ambit_miles",
     "ambit_feet",
     "ambit_km",
@@ -62,6 +63,7 @@ fn registers_the_vocabulary_deterministic_where_it_is() {
                     | "ambit_reached"
                     | "ambit_nearest"
                     | "ambit_count"
+                    | "ambit_gpkg_register"
             );
             format!("{}|{}", f.to_lowercase(), deterministic as i32)
         })
