@@ -25,7 +25,7 @@ fn reference() -> Vec<Example> {
     let section = section.split("\n## ").next().unwrap();
     let mut examples = Vec::new();
     for entry in section.split("\n### ").skip(1) {
-        let function = entry.split('(').next().unwrap().trim().to_string();
+        let function = entry.split(['(', '\n']).next().unwrap().trim().to_string();
         let block = |fence: &str, from: usize| -> Option<(String, usize)> {
             let start = entry[from..].find(fence)? + from + fence.len();
             let end = entry[start..].find("\n```")? + start;
