@@ -1,0 +1,224 @@
+//! The national-size job on a generated state-size region: ambit's sweep
+//! against a bare scan, against per-row scalar calls, and end to end
+//! against the Python pipeline a strong analyst would write
+//! (benches/baseline/access_baseline.py: shapely 2 STRtree with dwithin in
+//! a projected CRS), with peak memory of each.
+//!
+//! Run: `cargo bench --bench sweep` (default sizes 100000 and 400000
+//! blocks; give others as arguments, e.g. `cargo bench --bench sweep --
+//! 50000`). It needs /usr/bin/sqlite3, /usr/bin/time and the Python packages
+//! of benches/baseline/requirements.txt (installed if missing).
+//!
+//! Inputs per size (all invented, demo-db/build-region): blocks of about 40
+//! vertices tiling the land, about 1 park per 65 blocks (30 vertices
+//! typical), and the two recreation-facility sources merged into
+//! `bench_facilities` with a reach of 1 mile inside an urban area and 3
+//! miles outside. One layer holds the parks (0.5 mile) and facilities.
+//! Printed, from one run per size:
+//! - sweep (2 threads) / bare scan of the same blob column
+//!   (`SELECT sum(length(geom)) FROM blocks`, and a scan that loads every
+//!   blob, `SELECT max(geom) FROM blocks`) in the same process; target <= 5
+//!   against the scan of the issue;
+//! - per-row scalar calls (ambit_reached and ambit_nearest) / sweep on 2
+//!   threads: should approach the core count;
+//! - Python end to end / ambit end to end (layers, sweep, county table,
+//!   reading included); target >= 10;
+//! - peak resident memory of each (target: ambit under 1 GB, flat as rows
+//!   grow).
+
+use std::path::{Path, PathBuf};
+use std::process::Command;
+
+fn root() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+}
+
+/// The library built for this bench run, as `.load` takes it.
+fn library() -> PathBuf {
+    let exe = std::env::current_exe().unwrap();
+    let lib = exe.parent().unwrap().join("libambit.so");
+    assert!(lib.exists(), "{} missing", lib.display());
+    lib.with_extension("")
+}
+
+/// Runs a command under /usr/bin/time -v; returns (stdout, stderr, peak RSS
+/// in MiB, wall seconds).
+fn timed(cmd: &mut Command) -> (String, String, f64, f64) {
+    let start = std::time::Instant::now();
+    let out = cmd.output().expect("command runs");
+    let wall = start.elapsed().as_secs_f64();
+    let stdout = String::from_utf8_lossy(&out.stdout).into_owned();
+    let stderr = String::from_utf8_lossy(&out.stderr).into_owned();
+    assert!(out.status.success(), "command failed:\n{stdout}\n{stderr}");
+    let rss_kib: f64 = stderr
+        .lines()
+        .find_map(|l| l.trim().strip_prefix("Maximum resident set size (kbytes): "))
+        .and_then(|v| v.trim().parse().ok())
+        .unwrap_or(f64::NAN);
+    (stdout, stderr, rss_kib / 1024.0, wall)
+}
+
+/// Runs SQL in the stock shell with ambit loaded, under /usr/bin/time.
+fn shell(db: &Path, env: &[(&str, &str)], sql: &str) -> (String, f64, f64) {
+    let script = db.with_extension(format!("{}.sql", std::process::id()));
+    std::fs::write(&script, format!(".load {}\n{sql}\n", library().display())).unwrap();
+    let mut cmd = Command::new("/usr/bin/time");
+    cmd.arg("-v")
+        .arg("/usr/bin/sqlite3")
+        .arg("-bail")
+        .arg(db)
+        .arg(format!(".read {}", script.display()))
+        .envs(env.iter().copied());
+    let (stdout, _, rss, wall) = timed(&mut cmd);
+    std::fs::remove_file(&script).ok();
+    (stdout, rss, wall)
+}
+
+/// The seconds of each statement timed by `.timer on`.
+fn times(out: &str) -> Vec<f64> {
+    out.lines()
+        .filter_map(|l| l.strip_prefix("Run Time: real "))
+        .map(|l| l.split_whitespace().next().unwrap().parse().unwrap())
+        .collect()
+}
+
+const LAYER: &str = "
+SELECT ambit_layer_drop('urban');
+SELECT ambit_layer('urban', geom) FROM urban_areas;
+DROP TABLE IF EXISTS bench_facilities;
+CREATE TABLE bench_facilities AS
+  SELECT row_number() OVER () AS fid,
+         CASE WHEN ambit_reached('urban', geom) THEN ambit_miles(1) ELSE ambit_miles(3) END AS reach_m,
+         geom
+  FROM (SELECT geom FROM rec_sites UNION ALL SELECT geom FROM fitness_list);
+";
+
+const BUILD: &str = "
+SELECT ambit_layer('access', geom, ambit_miles(0.5), fid) FROM parks;
+SELECT ambit_layer('access', geom, reach_m, 1000000 + fid) FROM bench_facilities;
+";
+
+const COUNTY: &str = "
+SELECT substr(b.geoid, 1, 5) AS county, count(*) AS blocks, sum(b.population) AS population,
+       sum(CASE WHEN s.reached THEN b.population ELSE 0 END) AS reached_population
+FROM blocks b JOIN sweep s ON s.id = b.fid GROUP BY county ORDER BY county;
+";
+
+fn ensure_python_packages() {
+    let ok = Command::new("python3")
+        .args(["-c", "import shapely, pyproj, numpy"])
+        .status()
+        .map(|s| s.success())
+        .unwrap_or(false);
+    if !ok {
+        let req = root().join("benches/baseline/requirements.txt");
+        let status = Command::new("python3")
+            .args(["-m", "pip", "install", "-q", "-r"])
+            .arg(req)
+            .status()
+            .unwrap();
+        assert!(status.success(), "pip install failed");
+    }
+}
+
+fn run(blocks: usize, dir: &Path) {
+    let db = dir.join(format!("region-{blocks}.gpkg"));
+    let status = Command::new(root().join("demo-db/build-region"))
+        .args([blocks.to_string(), "7".to_string()])
+        .arg(&db)
+        .env("AMBIT_LIB", library())
+        .env("AMBIT_REGION_BIN", env!("CARGO_BIN_EXE_ambit-region"))
+        .status()
+        .unwrap();
+    assert!(status.success(), "build-region failed");
+    shell(&db, &[], LAYER);
+    let (counts, _, _) = shell(
+        &db,
+        &[],
+        "SELECT (SELECT count(*) FROM blocks), (SELECT count(*) FROM parks), (SELECT count(*) FROM bench_facilities), \
+         (SELECT sum(reach_m = ambit_miles(1)) FROM bench_facilities), \
+         (SELECT round(avg(length(geom) - 49) / 16.0, 1) FROM blocks);",
+    );
+    println!("\n{blocks} blocks requested: blocks|parks|facilities|urban facilities|mean block vertices = {}", counts.trim());
+
+    // ambit end to end in one process: layer, sweep, county table.
+    let e2e = format!(
+        ".timer on\nSELECT sum(length(geom)) FROM blocks;\nSELECT length(max(geom)) FROM blocks;\n{BUILD}\
+         CREATE TABLE sweep AS SELECT * FROM ambit_sweep('access', 'SELECT fid, geom FROM blocks');\n{COUNTY}"
+    );
+    let (out, ambit_rss, ambit_wall) = shell(&db, &[("RAYON_NUM_THREADS", "2")], &e2e);
+    let t = times(&out);
+    let (scan_len, scan_blob, build, sweep2) = (t[0], t[1], t[2] + t[3], t[4]);
+    // The same sweep on one thread, and the scalar functions row by row.
+    let (out1, _, _) = shell(
+        &db,
+        &[("RAYON_NUM_THREADS", "1")],
+        &format!("{BUILD}\n.timer on\nSELECT count(*) FROM ambit_sweep('access', 'SELECT fid, geom FROM blocks');"),
+    );
+    let sweep1 = times(&out1)[0];
+    let (outs, _, _) = shell(
+        &db,
+        &[],
+        &format!("{BUILD}\n.timer on\nSELECT sum(ambit_reached('access', geom)), sum(ambit_nearest('access', geom)) FROM blocks;"),
+    );
+    let scalar = times(&outs)[0];
+    let ambit_csv = dir.join(format!("ambit-{blocks}.csv"));
+    shell(
+        &db,
+        &[],
+        &format!(".mode csv\n.headers on\n.once {}\nSELECT id AS fid, reached FROM sweep;", ambit_csv.display()),
+    );
+
+    // The Python pipeline, reading included.
+    let py_csv = dir.join(format!("python-{blocks}.csv"));
+    let mut cmd = Command::new("/usr/bin/time");
+    cmd.arg("-v")
+        .arg("python3")
+        .arg(root().join("benches/baseline/access_baseline.py"))
+        .arg(&db)
+        .args(["--facilities", "bench_facilities", "--reach-column", "reach_m", "--out"])
+        .arg(&py_csv)
+        .arg("--compare")
+        .arg(&ambit_csv);
+    let (py_out, _, py_rss, py_wall) = timed(&mut cmd);
+    let differ = py_out
+        .lines()
+        .find(|l| l.starts_with("compare"))
+        .unwrap_or("compare: (no line)")
+        .to_string();
+
+    println!("  bare scan sum(length(geom)) {scan_len:.3} s; scan loading every blob max(geom) {scan_blob:.3} s");
+    println!("  layer build {build:.3} s; sweep on 2 threads {sweep2:.3} s, on 1 thread {sweep1:.3} s; scalar calls per row {scalar:.3} s");
+    println!(
+        "  sweep / bare scan = {:.1} (sum(length)), {:.1} (max(geom))   [target <= 5]",
+        sweep2 / scan_len.max(1e-3),
+        sweep2 / scan_blob.max(1e-3)
+    );
+    println!(
+        "  scalar per row / sweep on 2 threads = {:.2}; sweep 1 thread / 2 threads = {:.2}   [should approach 2 cores]",
+        scalar / sweep2,
+        sweep1 / sweep2
+    );
+    println!(
+        "  end to end: ambit {ambit_wall:.2} s, Python {py_wall:.2} s: Python / ambit = {:.1}   [target >= 10]",
+        py_wall / ambit_wall
+    );
+    println!("  peak RSS: ambit {ambit_rss:.0} MiB, Python {py_rss:.0} MiB   [ambit target < 1024 MiB]");
+    println!("  reached flags, planar Python vs geodesic ambit: {differ}");
+}
+
+fn main() {
+    let sizes: Vec<usize> = std::env::args()
+        .skip(1)
+        .filter_map(|a| a.parse().ok())
+        .collect();
+    let sizes = if sizes.is_empty() { vec![100_000, 400_000] } else { sizes };
+    ensure_python_packages();
+    let dir = std::env::temp_dir().join(format!("ambit-sweep-bench-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    println!("ambit sweep benchmark (invented region; RAYON_NUM_THREADS=2 unless noted)");
+    for n in sizes {
+        run(n, &dir);
+    }
+    std::fs::remove_dir_all(&dir).ok();
+}
