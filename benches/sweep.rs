@@ -52,7 +52,10 @@ fn timed(cmd: &mut Command) -> (String, String, f64, f64) {
     assert!(out.status.success(), "command failed:\n{stdout}\n{stderr}");
     let rss_kib: f64 = stderr
         .lines()
-        .find_map(|l| l.trim().strip_prefix("Maximum resident set size (kbytes): "))
+        .find_map(|l| {
+            l.trim()
+                .strip_prefix("Maximum resident set size (kbytes): ")
+        })
         .and_then(|v| v.trim().parse().ok())
         .unwrap_or(f64::NAN);
     (stdout, stderr, rss_kib / 1024.0, wall)
@@ -166,7 +169,10 @@ fn run(blocks: usize, dir: &Path) {
     shell(
         &db,
         &[],
-        &format!(".mode csv\n.headers on\n.once {}\nSELECT id AS fid, reached FROM sweep;", ambit_csv.display()),
+        &format!(
+            ".mode csv\n.headers on\n.once {}\nSELECT id AS fid, reached FROM sweep;",
+            ambit_csv.display()
+        ),
     );
 
     // The Python pipeline, reading included.
@@ -176,7 +182,13 @@ fn run(blocks: usize, dir: &Path) {
         .arg("python3")
         .arg(root().join("benches/baseline/access_baseline.py"))
         .arg(&db)
-        .args(["--facilities", "bench_facilities", "--reach-column", "reach_m", "--out"])
+        .args([
+            "--facilities",
+            "bench_facilities",
+            "--reach-column",
+            "reach_m",
+            "--out",
+        ])
         .arg(&py_csv)
         .arg("--compare")
         .arg(&ambit_csv);
@@ -203,7 +215,9 @@ fn run(blocks: usize, dir: &Path) {
         "  end to end: ambit {ambit_wall:.2} s, Python {py_wall:.2} s: Python / ambit = {:.1}   [target >= 10]",
         py_wall / ambit_wall
     );
-    println!("  peak RSS: ambit {ambit_rss:.0} MiB, Python {py_rss:.0} MiB   [ambit target < 1024 MiB]");
+    println!(
+        "  peak RSS: ambit {ambit_rss:.0} MiB, Python {py_rss:.0} MiB   [ambit target < 1024 MiB]"
+    );
     println!("  reached flags, planar Python vs geodesic ambit: {differ}");
 }
 
@@ -212,7 +226,11 @@ fn main() {
         .skip(1)
         .filter_map(|a| a.parse().ok())
         .collect();
-    let sizes = if sizes.is_empty() { vec![100_000, 400_000] } else { sizes };
+    let sizes = if sizes.is_empty() {
+        vec![100_000, 400_000]
+    } else {
+        sizes
+    };
     ensure_python_packages();
     let dir = std::env::temp_dir().join(format!("ambit-sweep-bench-{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();

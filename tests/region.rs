@@ -344,6 +344,12 @@ fn geoids_follow_state_county_tract_block() {
         assert!(geoid.bytes().all(|c| c.is_ascii_digit()), "{geoid}");
         assert!(county_ids.contains(&geoid[..5]), "{geoid}: no such county");
         assert!(seen.insert(geoid.clone()), "{geoid} repeated");
+        // Tract: 4-digit basic number, 2-digit suffix (00, or 01-04 for the
+        // parts of a split tract); block: block group digit 1-9 first.
+        let basic: u32 = geoid[5..9].parse().unwrap();
+        let suffix: u32 = geoid[9..11].parse().unwrap();
+        assert!(basic >= 1 && suffix <= 4, "{geoid}: tract");
+        assert!(geoid.as_bytes()[11] != b'0', "{geoid}: block group 0");
         assert_eq!(b[0], (i + 1).to_string(), "fids count from 1");
         let pop: u32 = b[2].parse().unwrap();
         assert!(pop <= 400, "{geoid}: {pop} residents");

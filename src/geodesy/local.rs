@@ -130,7 +130,9 @@ pub fn local_distance_with_bound(p: (f64, f64), q: (f64, f64)) -> (f64, f64) {
     let m = A * (1.0 - E2) / (w * w.sqrt());
     let dx = n * c * dlon;
     let dy = m * dlat;
-    let d = dx.hypot(dy);
+    // No overflow or underflow is possible at these magnitudes, so the plain
+    // square root is as accurate as hypot and several times faster.
+    let d = (dx * dx + dy * dy).sqrt();
     if !(p.1.abs() <= LOCAL_MAX_LAT && q.1.abs() <= LOCAL_MAX_LAT && d <= LOCAL_MAX_DISTANCE) {
         return (d, f64::INFINITY);
     }

@@ -27,7 +27,7 @@
 use crate::geodesy::{inverse, local, segment};
 use crate::proximity::boxes::LonLatBox;
 use crate::proximity::contain::point_in_prepared;
-use crate::proximity::prepared::{distance_upper, Element, LonLat, Prepared};
+use crate::proximity::prepared::{distance_upper, Ball, Element, LonLat, Prepared};
 
 /// How a within test was decided, for measuring the fast path.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
@@ -69,22 +69,45 @@ fn probes_inside(a: &Prepared, b: &Prepared, work: &mut Work) -> bool {
     })
 }
 
-/// The element pairs of `a` and `b` that may lie within `cap` of each
-/// other, by their boxes: through the element index of the larger
-/// geometry when it has one, else all pairs.
-fn candidate_pairs(a: &Prepared, b: &Prepared, cap: f64) -> Vec<(usize, usize)> {
-    let (small, large, swapped) = if a.elements.len() <= b.elements.len() {
-        (a, b, false)
-    } else {
-        (b, a, true)
+/// The elements of `x` that may lie within `cap` of the geometry whose
+/// ball is `other`: through `x`'s element index when it has one, then by
+/// each element's ball.
+fn elements_near(x: &Prepared, other: &Ball, cap: f64) -> Vec<usize> {
+    let near = match &x.index {
+        Some(_) if cap.is_finite() => x.elements_near(&LonLatBox::around(other, cap)),
+        _ => (0..x.elements.len()).collect(),
     };
-    let mut pairs = Vec::new();
-    for (i, (_, ball)) in small.elements.iter().enumerate() {
-        let near = match &large.index {
-            Some(_) if cap.is_finite() => large.elements_near(&LonLatBox::around(ball, cap)),
-            _ => (0..large.elements.len()).collect(),
+    near.into_iter()
+        .filter(|&i| x.elements[i].1.gap(other) <= cap)
+        .collect()
+}
+
+/// The element pairs of `a` and `b` that may lie within `cap` of each
+/// other: each element must be near the other geometry's ball, and a large
+/// geometry's index is asked per element of the other.
+fn candidate_pairs(a: &Prepared, b: &Prepared, cap: f64) -> Vec<(usize, usize)> {
+    let (Some(ball_a), Some(ball_b)) = (a.ball, b.ball) else {
+        return Vec::new();
+    };
+    let near_a = elements_near(a, &ball_b, cap);
+    let near_b = elements_near(b, &ball_a, cap);
+    let mut pairs = Vec::with_capacity(near_a.len() * near_b.len().min(64));
+    let (small, large, swapped) = if near_a.len() <= near_b.len() {
+        (&near_a, (b, &near_b), false)
+    } else {
+        (&near_b, (a, &near_a), true)
+    };
+    let (large_geometry, large_near) = large;
+    let small_geometry = if swapped { b } else { a };
+    for &i in small {
+        let ball = &small_geometry.elements[i].1;
+        let js: Vec<usize> = match &large_geometry.index {
+            Some(_) if cap.is_finite() && large_near.len() > 64 => {
+                large_geometry.elements_near(&LonLatBox::around(ball, cap))
+            }
+            _ => large_near.clone(),
         };
-        for j in near {
+        for j in js {
             pairs.push(if swapped { (j, i) } else { (i, j) });
         }
     }

@@ -156,14 +156,31 @@ impl Layer {
     /// or `g` is empty). The search widens from 1 km by factors of 4 until
     /// a feature is found.
     pub fn nearest(&self, g: &Prepared, max_m: Option<f64>) -> Option<f64> {
+        let ball = g.ball?;
         let limit = max_m.unwrap_or(MAX_SEPARATION).min(MAX_SEPARATION);
         let mut radius = limit.min(1000.0);
         loop {
-            let best = self
+            // Best first: candidates by the lower bound their balls give,
+            // each searched only up to the best distance found so far.
+            let mut ranked: Vec<(f64, usize)> = self
                 .candidates(g, radius)
                 .into_iter()
-                .filter_map(|i| distance_within(g, &self.features[i].geometry, radius))
-                .reduce(f64::min);
+                .filter_map(|i| {
+                    let fb = self.features[i].geometry.ball?;
+                    Some((ball.gap(&fb).max(0.0), i))
+                })
+                .collect();
+            ranked.sort_by(|x, y| x.0.total_cmp(&y.0).then(x.1.cmp(&y.1)));
+            let mut best: Option<f64> = None;
+            for (lower, i) in ranked {
+                let cap = best.unwrap_or(radius).min(radius);
+                if lower > cap {
+                    break;
+                }
+                if let Some(d) = distance_within(g, &self.features[i].geometry, cap) {
+                    best = Some(best.map_or(d, |b| b.min(d)));
+                }
+            }
             if best.is_some() || radius >= limit {
                 return best;
             }

@@ -1,8 +1,10 @@
 //! ambit_sweep(layer, query): every row of `query` (its first column an
 //! id of any type, its second a geometry) against a layer, on all cores.
 //!
-//!     SELECT id, reached, nearest_m
-//!     FROM ambit_sweep('parks', 'SELECT geoid, geom FROM blocks');
+//! ```text
+//! SELECT id, reached, nearest_m
+//! FROM ambit_sweep('parks', 'SELECT geoid, geom FROM blocks');
+//! ```
 //!
 //! The query runs on the same connection. Its rows are read in chunks of
 //! [`chunk_rows`] rows (copying each chunk's blobs), each chunk is

@@ -1,10 +1,12 @@
 //! ambit's table-valued functions, as SQLite virtual tables
 //! (https://sqlite.org/vtab.html, eponymous-only modules):
 //!
-//!     SELECT * FROM ambit_layers;                       -> name, features, vertices, bytes
-//!     SELECT * FROM ambit_near('clinics', geom [, m]);  -> feature_id, distance_m
-//!     SELECT * FROM ambit_sweep('parks', 'SELECT id, geom FROM blocks');
-//!                                                       -> id, reached, nearest_m
+//! ```text
+//! SELECT * FROM ambit_layers;                       -> name, features, vertices, bytes
+//! SELECT * FROM ambit_near('clinics', geom [, m]);  -> feature_id, distance_m
+//! SELECT * FROM ambit_sweep('parks', 'SELECT id, geom FROM blocks');
+//!                                                   -> id, reached, nearest_m
+//! ```
 //!
 //! How SQL maps onto the callbacks: `FROM ambit_near(a, b, c)` makes
 //! SQLite call xBestIndex with equality constraints on the hidden columns
