@@ -94,6 +94,25 @@ pub fn point_in_prepared(p: LonLat, g: &Prepared) -> bool {
     if g.polygons.is_empty() {
         return false;
     }
+    if g.index.is_none() {
+        // Small geometries: walk the rings directly, allocating nothing.
+        return g
+            .polygons
+            .iter()
+            .zip(&g.north_pole_rings)
+            .any(|(rings, flags)| {
+                rings
+                    .iter()
+                    .zip(flags)
+                    .fold(false, |inside, (ring, &pole)| {
+                        let crossings = ring
+                            .windows(2)
+                            .filter(|w| meridian_crosses(p, w[0], w[1]))
+                            .count();
+                        inside != ((crossings % 2 == 1) != pole)
+                    })
+            });
+    }
     let mut parity: Vec<Vec<bool>> = g.north_pole_rings.clone();
     let ray = LonLatBox {
         lon_lo: p.0,

@@ -24,6 +24,8 @@
 //! tests/geodesy_bruteforce.rs), within the range where they are validated
 //! (elements up to 1000 km apart).
 
+use std::ops::ControlFlow;
+
 use crate::geodesy::{inverse, local, segment};
 use crate::proximity::boxes::LonLatBox;
 use crate::proximity::contain::point_in_prepared;
@@ -48,6 +50,17 @@ fn exact(a: &Element, b: &Element) -> f64 {
             segment::segment_segment_distance(*a1, *a2, *b1, *b2)
         }
     }
+}
+
+/// The flat-frame bounds of [`local::edge_distance_bounds`] for two
+/// elements (a point is an edge of length 0).
+fn flat_bounds(a: &Element, b: &Element) -> (f64, f64) {
+    let ends = |e: &Element| match *e {
+        Element::Point(p) => (p, p),
+        Element::Edge(s, t) => (s, t),
+    };
+    let ((a1, a2), (b1, b2)) = (ends(a), ends(b));
+    local::edge_distance_bounds(a1, a2, b1, b2)
 }
 
 fn vertices(e: &Element) -> &[LonLat] {
@@ -82,36 +95,45 @@ fn elements_near(x: &Prepared, other: &Ball, cap: f64) -> Vec<usize> {
         .collect()
 }
 
-/// The element pairs of `a` and `b` that may lie within `cap` of each
-/// other: each element must be near the other geometry's ball, and a large
-/// geometry's index is asked per element of the other.
-fn candidate_pairs(a: &Prepared, b: &Prepared, cap: f64) -> Vec<(usize, usize)> {
+/// Calls `visit` on the element pairs of `a` and `b` that may lie within
+/// `cap` of each other (each element must be near the other geometry's
+/// ball; a large geometry's index is asked per element of the other),
+/// until `visit` breaks with a value, which is returned.
+fn for_each_candidate(
+    a: &Prepared,
+    b: &Prepared,
+    cap: f64,
+    mut visit: impl FnMut(usize, usize) -> ControlFlow<f64>,
+) -> Option<f64> {
     let (Some(ball_a), Some(ball_b)) = (a.ball, b.ball) else {
-        return Vec::new();
+        return None;
     };
     let near_a = elements_near(a, &ball_b, cap);
     let near_b = elements_near(b, &ball_a, cap);
-    let mut pairs = Vec::with_capacity(near_a.len() * near_b.len().min(64));
-    let (small, large, swapped) = if near_a.len() <= near_b.len() {
-        (&near_a, (b, &near_b), false)
+    let swapped = near_a.len() > near_b.len();
+    let (small, small_geometry, large_near, large_geometry) = if swapped {
+        (&near_b, b, &near_a, a)
     } else {
-        (&near_b, (a, &near_a), true)
+        (&near_a, a, &near_b, b)
     };
-    let (large_geometry, large_near) = large;
-    let small_geometry = if swapped { b } else { a };
+    let indexed = large_geometry.index.is_some() && cap.is_finite() && large_near.len() > 64;
     for &i in small {
-        let ball = &small_geometry.elements[i].1;
-        let js: Vec<usize> = match &large_geometry.index {
-            Some(_) if cap.is_finite() && large_near.len() > 64 => {
-                large_geometry.elements_near(&LonLatBox::around(ball, cap))
-            }
-            _ => large_near.clone(),
+        let found;
+        let js: &[usize] = if indexed {
+            let ball = &small_geometry.elements[i].1;
+            found = large_geometry.elements_near(&LonLatBox::around(ball, cap));
+            &found
+        } else {
+            large_near
         };
-        for j in js {
-            pairs.push(if swapped { (j, i) } else { (i, j) });
+        for &j in js {
+            let (x, y) = if swapped { (j, i) } else { (i, j) };
+            if let ControlFlow::Break(v) = visit(x, y) {
+                return Some(v);
+            }
         }
     }
-    pairs
+    None
 }
 
 /// The search behind [`distance`] and [`within`]. Returns the exact minimum
@@ -138,23 +160,27 @@ fn search(a: &Prepared, b: &Prepared, cap: f64, first_hit: bool, work: &mut Work
     }
     let reach = cap.min(best);
     let mut pairs: Vec<(f64, usize, usize)> = Vec::new();
-    for (i, j) in candidate_pairs(a, b, reach) {
+    let early = for_each_candidate(a, b, reach, |i, j| {
         let ((ea, ba), (eb, bb)) = (&a.elements[i], &b.elements[j]);
         let lower = ba.gap(bb).max(0.0);
         if lower > reach.min(best) {
-            continue;
+            return ControlFlow::Continue(());
         }
         if let (Element::Point(p), Element::Point(q)) = (ea, eb) {
             if first_hit && local::within_fast(*p, *q, cap) == Some(true) {
-                return distance_upper(*p, *q).min(cap);
+                return ControlFlow::Break(distance_upper(*p, *q).min(cap));
             }
         }
         let upper = distance_upper(vertices(ea)[0], vertices(eb)[0]);
         if first_hit && upper <= cap {
-            return upper;
+            return ControlFlow::Break(upper);
         }
         best = best.min(upper);
         pairs.push((lower, i, j));
+        ControlFlow::Continue(())
+    });
+    if let Some(found) = early {
+        return found;
     }
     pairs.sort_by(|x, y| x.0.total_cmp(&y.0));
     let mut best_exact = f64::INFINITY;
@@ -164,6 +190,17 @@ fn search(a: &Prepared, b: &Prepared, cap: f64, first_hit: bool, work: &mut Work
         // the minimum, so it came before).
         if lower > best_exact.min(best) {
             break;
+        }
+        // The flat frame's bounds settle most pairs without the exact
+        // computation: within reach for sure, or no better than known.
+        let (ea, eb) = (&a.elements[i].0, &b.elements[j].0);
+        let (flat_lo, flat_up) = flat_bounds(ea, eb);
+        if first_hit && flat_up <= cap {
+            return flat_up;
+        }
+        best = best.min(flat_up);
+        if flat_lo > best_exact.min(best).min(cap) {
+            continue;
         }
         work.exact += 1;
         let d = exact(&a.elements[i].0, &b.elements[j].0);
