@@ -116,7 +116,7 @@ fn for_each_candidate(
     } else {
         (&near_a, a, &near_b, b)
     };
-    let indexed = large_geometry.index.is_some() && cap.is_finite() && large_near.len() > 64;
+    let indexed = large_geometry.index.is_some() && cap.is_finite() && large_near.len() > 256;
     for &i in small {
         let found;
         let js: &[usize] = if indexed {

@@ -170,12 +170,21 @@ impl Layer {
                     Some((ball.gap(&fb).max(0.0), i))
                 })
                 .collect();
-            ranked.sort_by(|x, y| x.0.total_cmp(&y.0).then(x.1.cmp(&y.1)));
+            // Small features first, so that a large one (with an element
+            // index) is searched only up to a distance already found; the
+            // order changes the work done, never the answer.
+            ranked.sort_by(|x, y| {
+                let big = |i: usize| self.features[i].geometry.index.is_some();
+                big(x.1)
+                    .cmp(&big(y.1))
+                    .then(x.0.total_cmp(&y.0))
+                    .then(x.1.cmp(&y.1))
+            });
             let mut best: Option<f64> = None;
             for (lower, i) in ranked {
                 let cap = best.unwrap_or(radius).min(radius);
                 if lower > cap {
-                    break;
+                    continue;
                 }
                 if let Some(d) = distance_within(g, &self.features[i].geometry, cap) {
                     best = Some(best.map_or(d, |b| b.min(d)));

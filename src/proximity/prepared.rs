@@ -177,6 +177,9 @@ pub struct Prepared {
     pub bbox: Option<LonLatBox>,
     /// The element index of a large geometry.
     pub index: Option<RTree<IndexEntry>>,
+    /// True when some element's box was split at the antimeridian (stored
+    /// twice in the index).
+    pub split_boxes: bool,
 }
 
 fn lonlat(part: &[f64], width: usize) -> Vec<LonLat> {
@@ -288,14 +291,18 @@ impl Prepared {
         match &self.index {
             None => (0..self.elements.len()).collect(),
             Some(tree) => {
-                let mut found: Vec<usize> = query
-                    .normalised()
+                let queries = query.normalised();
+                let mut found: Vec<usize> = queries
                     .iter()
                     .flat_map(|q| tree.locate_in_envelope_intersecting(*q))
                     .map(|e| e.data as usize)
                     .collect();
-                found.sort_unstable();
-                found.dedup();
+                // An element appears twice only if its box was split and
+                // the query met both halves.
+                if self.split_boxes || queries.len() > 1 {
+                    found.sort_unstable();
+                    found.dedup();
+                }
                 found
             }
         }
