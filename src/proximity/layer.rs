@@ -156,6 +156,12 @@ impl Layer {
     /// or `g` is empty). The search widens from 1 km by factors of 4 until
     /// a feature is found.
     pub fn nearest(&self, g: &Prepared, max_m: Option<f64>) -> Option<f64> {
+        self.nearest_feature(g, max_m).map(|(d, _)| d)
+    }
+
+    /// [`Layer::nearest`] with the position of the nearest feature (the
+    /// first added among equally near ones).
+    fn nearest_feature(&self, g: &Prepared, max_m: Option<f64>) -> Option<(f64, usize)> {
         let ball = g.ball?;
         let limit = max_m.unwrap_or(MAX_SEPARATION).min(MAX_SEPARATION);
         let mut radius = limit.min(1000.0);
@@ -180,14 +186,20 @@ impl Layer {
                     .then(x.0.total_cmp(&y.0))
                     .then(x.1.cmp(&y.1))
             });
-            let mut best: Option<f64> = None;
+            let mut best: Option<(f64, usize)> = None;
             for (lower, i) in ranked {
-                let cap = best.unwrap_or(radius).min(radius);
+                let cap = best.map_or(radius, |b| b.0).min(radius);
                 if lower > cap {
                     continue;
                 }
                 if let Some(d) = distance_within(g, &self.features[i].geometry, cap) {
-                    best = Some(best.map_or(d, |b| b.min(d)));
+                    let better = match best {
+                        None => true,
+                        Some((b, j)) => d < b || (d == b && i < j),
+                    };
+                    if better {
+                        best = Some((d, i));
+                    }
                 }
             }
             if best.is_some() || radius >= limit {
@@ -197,9 +209,14 @@ impl Layer {
         }
     }
 
-    /// `reached` and `nearest` at once, as the sweep reports them.
+    /// `reached` and `nearest` at once, as the sweep reports them: when
+    /// the nearest feature is within its own reach, `g` is reached without
+    /// a second search.
     pub fn reached_and_nearest(&self, g: &Prepared) -> (bool, Option<f64>) {
-        (self.reached(g), self.nearest(g, None))
+        match self.nearest_feature(g, None) {
+            Some((d, i)) if d <= self.features[i].reach => (true, Some(d)),
+            nearest => (self.reached(g), nearest.map(|(d, _)| d)),
+        }
     }
 }
 

@@ -55,6 +55,19 @@ pub fn ecef(p: LonLat) -> [f64; 3] {
     ]
 }
 
+/// An upper bound on the geodesic distance between two points from their
+/// chord (see [`Ball::edge_from`]); infinite beyond a quarter circumference.
+pub fn arc_upper(a: &[f64; 3], b: &[f64; 3]) -> f64 {
+    use crate::geodesy::ellipsoid::MIN_MERIDIAN_RADIUS;
+    let (dx, dy, dz) = (a[0] - b[0], a[1] - b[1], a[2] - b[2]);
+    let chord = (dx * dx + dy * dy + dz * dz).sqrt();
+    let x = chord / (2.0 * MIN_MERIDIAN_RADIUS);
+    if x >= 0.7 {
+        return f64::INFINITY;
+    }
+    2.0 * MIN_MERIDIAN_RADIUS * x.asin() * (1.0 + 1e-12) + 1e-6
+}
+
 /// A lower bound on the geodesic distance between two points: the straight
 /// chord between them through the ellipsoid is never longer than any path
 /// on its surface. Rounded down by 1 µm (far above the round-off of
@@ -110,8 +123,20 @@ impl Ball {
 
     /// A ball around the geodesic edge a-b.
     pub fn edge(a: LonLat, b: LonLat) -> Ball {
+        Ball::edge_from(a, b, &ecef(a), &ecef(b))
+    }
+
+    /// [`Ball::edge`] from the ends' Earth-centred coordinates. The radius
+    /// bounds the geodesic distance from the centre to each end by the chord:
+    /// a geodesic's curvature never exceeds the surface's largest normal
+    /// curvature 1/M(0) (M(0) = a(1 - e^2), the smallest radius of
+    /// curvature), so by Schur's comparison theorem a geodesic of length s
+    /// spans a chord of at least 2 M(0) sin(s / (2 M(0))), i.e.
+    /// s <= 2 M(0) asin(chord / (2 M(0))).
+    pub fn edge_from(a: LonLat, b: LonLat, xa: &[f64; 3], xb: &[f64; 3]) -> Ball {
         let centre = (a.0 + wrap_delta(a.0, b.0) / 2.0, (a.1 + b.1) / 2.0);
-        let radius = distance_upper(centre, a).max(distance_upper(centre, b));
+        let xyz = ecef(centre);
+        let radius = arc_upper(&xyz, xa).max(arc_upper(&xyz, xb));
         Ball {
             centre,
             radius: if radius > MAX_BALL_RADIUS {
@@ -119,7 +144,7 @@ impl Ball {
             } else {
                 radius
             },
-            xyz: ecef(centre),
+            xyz,
         }
     }
 
@@ -247,33 +272,39 @@ impl Prepared {
             elements.push((Element::Point(p), Ball::point(p)));
             owners.push(None);
         }
-        for line in &self.lines {
-            for w in line.windows(2) {
-                elements.push((Element::Edge(w[0], w[1]), Ball::edge(w[0], w[1])));
-                owners.push(None);
+        let edges = |chain: &[LonLat], out: &mut Vec<(Element, Ball)>| {
+            let xyz: Vec<[f64; 3]> = chain.iter().map(|&p| ecef(p)).collect();
+            for k in 0..chain.len().saturating_sub(1) {
+                let (a, b) = (chain[k], chain[k + 1]);
+                out.push((Element::Edge(a, b), Ball::edge_from(a, b, &xyz[k], &xyz[k + 1])));
             }
+        };
+        for line in &self.lines {
+            edges(line, &mut elements);
+            owners.resize(elements.len(), None);
         }
         for (pi, rings) in self.polygons.iter().enumerate() {
             let mut flags = Vec::with_capacity(rings.len());
             for (ri, ring) in rings.iter().enumerate() {
                 flags.push(crate::proximity::contain::encloses_north_pole(ring));
-                for w in ring.windows(2) {
-                    elements.push((Element::Edge(w[0], w[1]), Ball::edge(w[0], w[1])));
-                    owners.push(Some(RingRef {
+                edges(ring, &mut elements);
+                owners.resize(
+                    elements.len(),
+                    Some(RingRef {
                         polygon: pi as u32,
                         ring: ri as u32,
-                    }));
-                }
+                    }),
+                );
             }
             self.north_pole_rings.push(flags);
         }
         self.ball = whole_ball(&elements);
-        let boxes: Vec<LonLatBox> = elements
-            .iter()
-            .map(|(_, b)| LonLatBox::around(b, 0.0))
-            .collect();
-        self.bbox = boxes.iter().copied().reduce(|acc, b| acc.union(&b));
+        self.bbox = bounding_box(&elements);
         if elements.len() > ELEMENT_INDEX_MIN {
+            let boxes: Vec<LonLatBox> = elements
+                .iter()
+                .map(|(_, b)| LonLatBox::around(b, 0.0))
+                .collect();
             let entries: Vec<IndexEntry> = boxes
                 .iter()
                 .enumerate()
@@ -344,9 +375,10 @@ fn whole_ball(elements: &[(Element, Ball)]) -> Option<Ball> {
         hi_y = hi_y.max(b.centre.1);
     }
     let centre = (first.0 + (lo_x + hi_x) / 2.0, (lo_y + hi_y) / 2.0);
+    let xyz = ecef(centre);
     let mut radius = 0.0f64;
     for (_, b) in elements {
-        radius = radius.max(distance_upper(centre, b.centre) + b.radius);
+        radius = radius.max(arc_upper(&xyz, &b.xyz) + b.radius);
     }
     Some(Ball {
         centre,
@@ -355,8 +387,30 @@ fn whole_ball(elements: &[(Element, Ball)]) -> Option<Ball> {
         } else {
             radius
         },
-        xyz: ecef(centre),
+        xyz,
     })
+}
+
+/// A box holding every element: the centres' box (longitudes unwrapped
+/// around the first) grown by the largest element radius.
+fn bounding_box(elements: &[(Element, Ball)]) -> Option<LonLatBox> {
+    let first = elements.first()?.1.centre;
+    let mut b = LonLatBox {
+        lon_lo: first.0,
+        lon_hi: first.0,
+        lat_lo: first.1,
+        lat_hi: first.1,
+    };
+    let mut radius = 0.0f64;
+    for (_, ball) in elements {
+        let x = first.0 + wrap_delta(first.0, ball.centre.0);
+        b.lon_lo = b.lon_lo.min(x);
+        b.lon_hi = b.lon_hi.max(x);
+        b.lat_lo = b.lat_lo.min(ball.centre.1);
+        b.lat_hi = b.lat_hi.max(ball.centre.1);
+        radius = radius.max(ball.radius);
+    }
+    Some(b.grown(radius))
 }
 
 #[cfg(test)]
