@@ -29,7 +29,7 @@ use std::ops::ControlFlow;
 use crate::geodesy::{inverse, local, segment};
 use crate::proximity::boxes::LonLatBox;
 use crate::proximity::contain::point_in_prepared;
-use crate::proximity::prepared::{distance_upper, Ball, Element, LonLat, Prepared};
+use crate::proximity::prepared::{arc_upper, distance_upper, Ball, Element, LonLat, Prepared};
 
 /// How a within test was decided, for measuring the fast path.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
@@ -136,6 +136,37 @@ fn for_each_candidate(
     None
 }
 
+/// A rigorous upper bound on the distance between `a` and `b`, close to it:
+/// the element of `a` whose ball centre is nearest `b`'s centre, the
+/// element of `b` nearest that one, and the distance between their balls'
+/// far sides (any point of one ball is within d(c1, c2) + r1 + r2 of any
+/// point of the other). Small geometries scan all elements; large ones
+/// their first and every 16th.
+fn quick_upper(a: &Prepared, b: &Prepared) -> f64 {
+    let Some(ball_b) = b.ball else {
+        return f64::INFINITY;
+    };
+    let nearest_to = |x: &Prepared, target: &[f64; 3]| -> Option<usize> {
+        let step = if x.elements.len() > 512 { 16 } else { 1 };
+        (0..x.elements.len()).step_by(step).min_by(|&i, &j| {
+            let d = |k: usize| {
+                let c = &x.elements[k].1.xyz;
+                (c[0] - target[0]).powi(2) + (c[1] - target[1]).powi(2) + (c[2] - target[2]).powi(2)
+            };
+            d(i).total_cmp(&d(j))
+        })
+    };
+    let Some(i) = nearest_to(a, &ball_b.xyz) else {
+        return f64::INFINITY;
+    };
+    let ea = &a.elements[i].1;
+    let Some(j) = nearest_to(b, &ea.xyz) else {
+        return f64::INFINITY;
+    };
+    let eb = &b.elements[j].1;
+    arc_upper(&ea.xyz, &eb.xyz) + ea.radius + eb.radius
+}
+
 /// The search behind [`distance`] and [`within`]. Returns the exact minimum
 /// distance when it is at most `cap`; with `first_hit`, may instead return
 /// any distance found that is at most `cap`. A result above `cap` means
@@ -153,8 +184,7 @@ fn search(a: &Prepared, b: &Prepared, cap: f64, first_hit: bool, work: &mut Work
     }
     // Any pair of vertices bounds the minimum from above, which bounds the
     // pairs worth looking at.
-    let first = |p: &Prepared| vertices(&p.elements[0].0)[0];
-    let mut best = distance_upper(first(a), first(b));
+    let mut best = quick_upper(a, b);
     if first_hit && best <= cap {
         return best;
     }
@@ -182,7 +212,7 @@ fn search(a: &Prepared, b: &Prepared, cap: f64, first_hit: bool, work: &mut Work
     if let Some(found) = early {
         return found;
     }
-    pairs.sort_by(|x, y| x.0.total_cmp(&y.0));
+    pairs.sort_unstable_by(|x, y| x.0.total_cmp(&y.0).then(x.1.cmp(&y.1)).then(x.2.cmp(&y.2)));
     let mut best_exact = f64::INFINITY;
     for (lower, i, j) in pairs {
         // No later pair can beat the best exact distance found, nor the

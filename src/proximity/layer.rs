@@ -55,6 +55,8 @@ type Entry = GeomWithData<Rectangle<[f64; 2]>, u32>;
 pub struct Layer {
     features: Vec<Feature>,
     tree: RTree<Entry>,
+    /// True when some feature's box was split at the antimeridian.
+    split_boxes: bool,
 }
 
 impl Layer {
@@ -70,9 +72,15 @@ impl Layer {
                     .map(move |r| GeomWithData::new(Rectangle::from_aabb(r), i as u32))
             })
             .collect();
+        let split_boxes = entries.len()
+            > features
+                .iter()
+                .filter(|f| f.geometry.bbox.is_some())
+                .count();
         Layer {
             tree: RTree::bulk_load(entries),
             features,
+            split_boxes,
         }
     }
 
@@ -103,15 +111,19 @@ impl Layer {
         let Some(b) = g.bbox else {
             return Vec::new();
         };
-        let mut found: Vec<usize> = b
-            .grown(grow_m)
-            .normalised()
-            .into_iter()
-            .flat_map(|q| self.tree.locate_in_envelope_intersecting(q))
+        let queries = b.grown(grow_m).normalised();
+        let mut found: Vec<usize> = queries
+            .iter()
+            .flat_map(|q| self.tree.locate_in_envelope_intersecting(*q))
             .map(|e| e.data as usize)
             .collect();
+        // Sorted, so answers follow the order features were added; a
+        // feature appears twice only if its box was split and the query met
+        // both halves.
         found.sort_unstable();
-        found.dedup();
+        if self.split_boxes || queries.len() > 1 {
+            found.dedup();
+        }
         found
     }
 
@@ -162,45 +174,27 @@ impl Layer {
     /// [`Layer::nearest`] with the position of the nearest feature (the
     /// first added among equally near ones).
     fn nearest_feature(&self, g: &Prepared, max_m: Option<f64>) -> Option<(f64, usize)> {
+        self.nearest_search(g, max_m, &mut None)
+    }
+
+    /// The nearest feature within `max_m`, widening from 1 km by factors of
+    /// 4; `first_candidates` receives the candidates of the first (1 km)
+    /// round, which include every feature whose reach-grown box meets
+    /// `g`'s box.
+    fn nearest_search(
+        &self,
+        g: &Prepared,
+        max_m: Option<f64>,
+        first_candidates: &mut Option<Vec<usize>>,
+    ) -> Option<(f64, usize)> {
         let ball = g.ball?;
         let limit = max_m.unwrap_or(MAX_SEPARATION).min(MAX_SEPARATION);
         let mut radius = limit.min(1000.0);
         loop {
-            // Best first: candidates by the lower bound their balls give,
-            // each searched only up to the best distance found so far.
-            let mut ranked: Vec<(f64, usize)> = self
-                .candidates(g, radius)
-                .into_iter()
-                .filter_map(|i| {
-                    let fb = self.features[i].geometry.ball?;
-                    Some((ball.gap(&fb).max(0.0), i))
-                })
-                .collect();
-            // Small features first, so that a large one (with an element
-            // index) is searched only up to a distance already found; the
-            // order changes the work done, never the answer.
-            ranked.sort_by(|x, y| {
-                let big = |i: usize| self.features[i].geometry.index.is_some();
-                big(x.1)
-                    .cmp(&big(y.1))
-                    .then(x.0.total_cmp(&y.0))
-                    .then(x.1.cmp(&y.1))
-            });
-            let mut best: Option<(f64, usize)> = None;
-            for (lower, i) in ranked {
-                let cap = best.map_or(radius, |b| b.0).min(radius);
-                if lower > cap {
-                    continue;
-                }
-                if let Some(d) = distance_within(g, &self.features[i].geometry, cap) {
-                    let better = match best {
-                        None => true,
-                        Some((b, j)) => d < b || (d == b && i < j),
-                    };
-                    if better {
-                        best = Some((d, i));
-                    }
-                }
+            let candidates = self.candidates(g, radius);
+            let best = self.best_first(g, &ball, &candidates, radius);
+            if first_candidates.is_none() {
+                *first_candidates = Some(candidates);
             }
             if best.is_some() || radius >= limit {
                 return best;
@@ -209,14 +203,63 @@ impl Layer {
         }
     }
 
+    /// The nearest of `candidates` within `radius` of `g` (the first added
+    /// among equally near ones). Best first: candidates by the lower bound
+    /// their balls give, each searched only up to the best distance found
+    /// so far; small features first, so that a large one (with an element
+    /// index) is searched only up to a distance already found. The order
+    /// changes the work done, never the answer.
+    fn best_first(
+        &self,
+        g: &Prepared,
+        ball: &crate::proximity::prepared::Ball,
+        candidates: &[usize],
+        radius: f64,
+    ) -> Option<(f64, usize)> {
+        let mut ranked: Vec<(bool, f64, usize)> = candidates
+            .iter()
+            .filter_map(|&i| {
+                let f = &self.features[i].geometry;
+                let fb = f.ball?;
+                Some((f.index.is_some(), ball.gap(&fb).max(0.0), i))
+            })
+            .collect();
+        ranked.sort_unstable_by(|x, y| x.0.cmp(&y.0).then(x.1.total_cmp(&y.1)).then(x.2.cmp(&y.2)));
+        let mut best: Option<(f64, usize)> = None;
+        for (_, lower, i) in ranked {
+            let cap = best.map_or(radius, |b| b.0).min(radius);
+            if lower > cap {
+                continue;
+            }
+            if let Some(d) = distance_within(g, &self.features[i].geometry, cap) {
+                let better = match best {
+                    None => true,
+                    Some((b, j)) => d < b || (d == b && i < j),
+                };
+                if better {
+                    best = Some((d, i));
+                }
+            }
+        }
+        best
+    }
+
     /// `reached` and `nearest` at once, as the sweep reports them: when
     /// the nearest feature is within its own reach, `g` is reached without
-    /// a second search.
+    /// a second search; otherwise the candidates of the nearest search's
+    /// first round (a superset of those `reached` would look at) are
+    /// tested.
     pub fn reached_and_nearest(&self, g: &Prepared) -> (bool, Option<f64>) {
-        match self.nearest_feature(g, None) {
-            Some((d, i)) if d <= self.features[i].reach => (true, Some(d)),
-            nearest => (self.reached(g), nearest.map(|(d, _)| d)),
-        }
+        let mut first = None;
+        let nearest = self.nearest_search(g, None, &mut first);
+        let reached = match nearest {
+            Some((d, i)) if d <= self.features[i].reach => true,
+            _ => first.unwrap_or_default().into_iter().any(|i| {
+                let f = &self.features[i];
+                within(g, &f.geometry, f.reach)
+            }),
+        };
+        (reached, nearest.map(|(d, _)| d))
     }
 }
 

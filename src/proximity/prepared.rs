@@ -276,7 +276,10 @@ impl Prepared {
             let xyz: Vec<[f64; 3]> = chain.iter().map(|&p| ecef(p)).collect();
             for k in 0..chain.len().saturating_sub(1) {
                 let (a, b) = (chain[k], chain[k + 1]);
-                out.push((Element::Edge(a, b), Ball::edge_from(a, b, &xyz[k], &xyz[k + 1])));
+                out.push((
+                    Element::Edge(a, b),
+                    Ball::edge_from(a, b, &xyz[k], &xyz[k + 1]),
+                ));
             }
         };
         for line in &self.lines {
