@@ -46,10 +46,35 @@ fn exact(a: &Element, b: &Element) -> f64 {
         (Element::Point(p), Element::Edge(s, e)) | (Element::Edge(s, e), Element::Point(p)) => {
             segment::point_segment_distance(*p, *s, *e)
         }
-        (Element::Edge(a1, a2), Element::Edge(b1, b2)) => {
-            segment::segment_segment_distance(*a1, *a2, *b1, *b2)
-        }
+        (Element::Edge(a1, a2), Element::Edge(b1, b2)) => edge_edge(*a1, *a2, *b1, *b2),
     }
+}
+
+/// Edge to edge: 0 if they cross, else the least of the four
+/// end-to-edge distances (see [`segment::segment_segment_distance`]). When
+/// the flat frame proves the edges apart, the crossing test is skipped, and
+/// only the end-to-edge distances whose flat lower bound can beat the
+/// others' upper bounds are computed exactly; the result is the same.
+fn edge_edge(a1: LonLat, a2: LonLat, b1: LonLat, b2: LonLat) -> f64 {
+    let (lower, _) = local::edge_distance_bounds(a1, a2, b1, b2);
+    if lower <= 0.0 {
+        return segment::segment_segment_distance(a1, a2, b1, b2);
+    }
+    let ends = [(a1, b1, b2), (a2, b1, b2), (b1, a1, a2), (b2, a1, a2)];
+    let mut bounds = ends.map(|(p, s, e)| {
+        let (lo, up) = local::edge_distance_bounds(p, p, s, e);
+        (lo, up, p, s, e)
+    });
+    bounds.sort_unstable_by(|x, y| x.0.total_cmp(&y.0));
+    let ceiling = bounds.iter().map(|b| b.1).fold(f64::INFINITY, f64::min);
+    let mut best = f64::INFINITY;
+    for (lo, _, p, s, e) in bounds {
+        if lo > best.min(ceiling) {
+            break;
+        }
+        best = best.min(segment::point_segment_distance(p, s, e));
+    }
+    best
 }
 
 /// The flat-frame bounds of [`local::edge_distance_bounds`] for two
