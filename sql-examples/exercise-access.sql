@@ -30,6 +30,8 @@
 
 .bail on
 .load target/release/libambit
+-- The counts the building steps return are not printed; the county table is.
+.output /dev/null
 
 -- 1. Parameters: every choice in one place, written into the results. ----
 DROP TABLE IF EXISTS build_parameters;
@@ -167,6 +169,7 @@ SELECT county_geoid, county_name, build_year, blocks, blocks_with_access, popula
        population_with_access, pct_with_access FROM county_access ORDER BY county_geoid;
 
 -- 9. Print it. -------------------------------------------------------------
+.output stdout
 .mode box
 SELECT county_geoid AS county, county_name AS name, blocks, population,
        population_with_access AS with_access, pct_with_access AS pct

@@ -58,3 +58,31 @@ fn first_steps_runs_and_its_numbers_are_right() {
         run.stdout
     );
 }
+
+/// Every script in sql-examples/ has a test that runs it on demo-db/ and
+/// checks its numbers independently.
+#[test]
+fn every_example_script_is_tested() {
+    let tested = [
+        ("first-steps.sql", "tests/examples.rs"),
+        ("exercise-access.sql", "tests/demo.rs"),
+    ];
+    let mut found: Vec<String> =
+        std::fs::read_dir(concat!(env!("CARGO_MANIFEST_DIR"), "/sql-examples"))
+            .unwrap()
+            .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+            .filter(|n| n.ends_with(".sql"))
+            .collect();
+    found.sort();
+    let mut listed: Vec<String> = tested.iter().map(|t| t.0.to_string()).collect();
+    listed.sort();
+    assert_eq!(
+        found, listed,
+        "add a test for each new script and list it here"
+    );
+    for (script, test) in tested {
+        let text =
+            std::fs::read_to_string(format!("{}/{test}", env!("CARGO_MANIFEST_DIR"))).unwrap();
+        assert!(text.contains(script), "{test} does not run {script}");
+    }
+}

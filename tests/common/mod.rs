@@ -44,7 +44,22 @@ pub fn shell_with(args: &[&str], sql: &str) -> ShellRun {
 /// Runs `sql` in the sqlite3 shell with the given arguments and extra
 /// environment variables.
 pub fn shell_env(args: &[&str], env: &[(&str, &str)], sql: &str) -> ShellRun {
-    let mut child = Command::new(SHELL)
+    shell_at(None, args, env, sql)
+}
+
+/// Runs `sql` in the sqlite3 shell in the folder `dir` (the current folder
+/// when `None`).
+pub fn shell_at(
+    dir: Option<&std::path::Path>,
+    args: &[&str],
+    env: &[(&str, &str)],
+    sql: &str,
+) -> ShellRun {
+    let mut command = Command::new(SHELL);
+    if let Some(dir) = dir {
+        command.current_dir(dir);
+    }
+    let mut child = command
         .args(args)
         .envs(env.iter().copied())
         .stdin(Stdio::piped())
