@@ -40,8 +40,8 @@ use crate::sql::{guard, sweep, Args};
 
 /// Registers ambit_layers, ambit_near and ambit_sweep.
 pub fn register(conn: &Connection, state: &Arc<ConnState>) -> rusqlite::Result<()> {
-    const LAYERS: Module<LayersTable> = Module::eponymous_only_module();
-    const NEAR_MODULE: Module<NearTable> = Module::eponymous_only_module();
+    const LAYERS: Module<RowsTable<Layers>> = Module::eponymous_only_module();
+    const NEAR_MODULE: Module<RowsTable<Near>> = Module::eponymous_only_module();
     const SWEEP_MODULE: Module<sweep::SweepTable> = Module::eponymous_only_module();
     conn.create_module(c"ambit_layers", &LAYERS, Some(Arc::clone(state)))?;
     conn.create_module(c"ambit_near", &NEAR_MODULE, Some(Arc::clone(state)))?;
@@ -117,127 +117,33 @@ pub fn arguments<'a>(idx_num: c_int, values: &'a Filters<'a>, params: usize) -> 
         .collect()
 }
 
-fn set(ctx: &mut Context, value: &Value) -> rusqlite::Result<()> {
-    ctx.set_result(value)
+/// What distinguishes one row-at-once table-valued function from another:
+/// its schema, its argument plan, and how a call's rows are computed.
+pub trait RowSource: 'static {
+    /// The `CREATE TABLE` statement SQLite is told.
+    const SCHEMA: &'static CStr;
+    /// xBestIndex: the argument plan (see [`argument_plan`]).
+    fn plan(info: &mut IndexInfo) -> rusqlite::Result<bool>;
+    /// xFilter: all rows of one call, each with a value per visible column.
+    fn rows(
+        state: &Arc<ConnState>,
+        idx: c_int,
+        values: &Filters<'_>,
+    ) -> rusqlite::Result<Vec<Vec<Value>>>;
 }
 
-// ---------------------------------------------------------------- layers
-
+/// A table-valued function whose rows are computed whole by `S`.
 #[repr(C)]
-struct LayersTable {
+pub struct RowsTable<S: RowSource> {
     base: ffi::sqlite3_vtab,
     state: Arc<ConnState>,
+    source: PhantomData<S>,
 }
 
 // SAFETY: #[repr(C)] with the sqlite3_vtab base first (see the module doc).
-unsafe impl<'vtab> VTab<'vtab> for LayersTable {
+unsafe impl<'vtab, S: RowSource> VTab<'vtab> for RowsTable<S> {
     type Aux = Arc<ConnState>;
-    type Cursor = LayersCursor<'vtab>;
-
-    fn connect(
-        db: &mut VTabConnection,
-        aux: Option<&Arc<ConnState>>,
-        _module: &[u8],
-        _database: &[u8],
-        _table: &[u8],
-        _args: &[&[u8]],
-    ) -> rusqlite::Result<(Cow<'static, CStr>, Self)> {
-        db.config(VTabConfig::Innocuous)?;
-        let state = aux.cloned().unwrap_or_default();
-        Ok((
-            Cow::Borrowed(
-                c"CREATE TABLE x(name TEXT, features INTEGER, vertices INTEGER, bytes INTEGER)",
-            ),
-            LayersTable {
-                base: ffi::sqlite3_vtab::default(),
-                state,
-            },
-        ))
-    }
-
-    fn best_index(&self, info: &mut IndexInfo) -> rusqlite::Result<bool> {
-        info.set_estimated_cost(10.0);
-        Ok(true)
-    }
-
-    fn open(&'vtab mut self) -> rusqlite::Result<LayersCursor<'vtab>> {
-        Ok(LayersCursor {
-            base: ffi::sqlite3_vtab_cursor::default(),
-            state: Arc::clone(&self.state),
-            rows: Vec::new(),
-            at: 0,
-            phantom: PhantomData,
-        })
-    }
-}
-
-#[repr(C)]
-struct LayersCursor<'vtab> {
-    base: ffi::sqlite3_vtab_cursor,
-    state: Arc<ConnState>,
-    rows: Vec<[Value; 4]>,
-    at: usize,
-    phantom: PhantomData<&'vtab LayersTable>,
-}
-
-// SAFETY: #[repr(C)] with the sqlite3_vtab_cursor base first.
-unsafe impl VTabCursor for LayersCursor<'_> {
-    fn filter(
-        &mut self,
-        _idx: c_int,
-        _s: Option<&str>,
-        _args: &Filters<'_>,
-    ) -> rusqlite::Result<()> {
-        self.rows = self
-            .state
-            .all()
-            .into_iter()
-            .map(|(name, layer)| {
-                [
-                    Value::Text(name),
-                    Value::Integer(layer.features().len() as i64),
-                    Value::Integer(layer.vertices() as i64),
-                    Value::Integer(layer.bytes() as i64),
-                ]
-            })
-            .collect();
-        self.at = 0;
-        Ok(())
-    }
-
-    fn next(&mut self) -> rusqlite::Result<()> {
-        self.at += 1;
-        Ok(())
-    }
-
-    fn eof(&self) -> bool {
-        self.at >= self.rows.len()
-    }
-
-    fn column(&self, ctx: &mut Context, i: c_int) -> rusqlite::Result<()> {
-        set(ctx, &self.rows[self.at][i as usize])
-    }
-
-    fn rowid(&self) -> rusqlite::Result<i64> {
-        Ok(self.at as i64 + 1)
-    }
-}
-
-// ------------------------------------------------------------------ near
-
-const NEAR: &str = "ambit_near";
-const NEAR_PARAMS: &[&str] = &["layer", "geom", "metres"];
-
-#[repr(C)]
-struct NearTable {
-    base: ffi::sqlite3_vtab,
-    state: Arc<ConnState>,
-}
-
-// SAFETY: #[repr(C)] with the sqlite3_vtab base first.
-unsafe impl<'vtab> VTab<'vtab> for NearTable {
-    type Aux = Arc<ConnState>;
-    type Cursor = NearCursor<'vtab>;
+    type Cursor = RowsCursor<'vtab, S>;
 
     fn connect(
         db: &mut VTabConnection,
@@ -249,69 +155,47 @@ unsafe impl<'vtab> VTab<'vtab> for NearTable {
     ) -> rusqlite::Result<(Cow<'static, CStr>, Self)> {
         db.config(VTabConfig::Innocuous)?;
         Ok((
-            Cow::Borrowed(c"CREATE TABLE x(feature_id INTEGER, distance_m REAL, layer HIDDEN, geom HIDDEN, metres HIDDEN)"),
-            NearTable {
+            Cow::Borrowed(S::SCHEMA),
+            RowsTable {
                 base: ffi::sqlite3_vtab::default(),
                 state: aux.cloned().unwrap_or_default(),
+                source: PhantomData,
             },
         ))
     }
 
     fn best_index(&self, info: &mut IndexInfo) -> rusqlite::Result<bool> {
-        argument_plan(info, 2, 3, 2)
+        S::plan(info)
     }
 
-    fn open(&'vtab mut self) -> rusqlite::Result<NearCursor<'vtab>> {
-        Ok(NearCursor {
+    fn open(&'vtab mut self) -> rusqlite::Result<RowsCursor<'vtab, S>> {
+        Ok(RowsCursor {
             base: ffi::sqlite3_vtab_cursor::default(),
-            state: Arc::clone(&self.state),
+            table: self,
             rows: Vec::new(),
             at: 0,
-            phantom: PhantomData,
         })
     }
 }
 
+/// The cursor of a [`RowsTable`]: the rows of the current call.
 #[repr(C)]
-struct NearCursor<'vtab> {
+pub struct RowsCursor<'vtab, S: RowSource> {
     base: ffi::sqlite3_vtab_cursor,
-    state: Arc<ConnState>,
-    rows: Vec<(i64, f64)>,
+    table: &'vtab RowsTable<S>,
+    rows: Vec<Vec<Value>>,
     at: usize,
-    phantom: PhantomData<&'vtab NearTable>,
-}
-
-impl NearCursor<'_> {
-    fn compute(&self, args: &Args) -> rusqlite::Result<Vec<(i64, f64)>> {
-        let Some(name) = args.text(0)? else {
-            return Ok(Vec::new());
-        };
-        let layer = args.state().layer(NEAR, name)?;
-        let metres = distance_arg(args, 2)?;
-        Ok(match args.geometry(1)? {
-            Some(d) => layer.near(&Prepared::new(&d.geometry), metres),
-            None => Vec::new(),
-        })
-    }
 }
 
 // SAFETY: #[repr(C)] with the sqlite3_vtab_cursor base first.
-unsafe impl VTabCursor for NearCursor<'_> {
+unsafe impl<S: RowSource> VTabCursor for RowsCursor<'_, S> {
     fn filter(
         &mut self,
         idx: c_int,
         _s: Option<&str>,
         values: &Filters<'_>,
     ) -> rusqlite::Result<()> {
-        if idx & 0b11 != 0b11 {
-            return Err(table_error(
-                NEAR,
-                "needs a layer name and a geometry: SELECT * FROM ambit_near('layer', geom [, metres])",
-            ));
-        }
-        let state = Arc::clone(&self.state);
-        let args = Args::new(NEAR, NEAR_PARAMS, arguments(idx, values, 3), &state);
-        self.rows = guard(NEAR, || self.compute(&args))?;
+        self.rows = S::rows(&self.table.state, idx, values)?;
         self.at = 0;
         Ok(())
     }
@@ -326,15 +210,86 @@ unsafe impl VTabCursor for NearCursor<'_> {
     }
 
     fn column(&self, ctx: &mut Context, i: c_int) -> rusqlite::Result<()> {
-        let (id, d) = self.rows[self.at];
-        match i {
-            0 => ctx.set_result(&id),
-            1 => ctx.set_result(&d),
-            _ => ctx.set_result(&Value::Null),
-        }
+        ctx.set_result(self.rows[self.at].get(i as usize).unwrap_or(&Value::Null))
     }
 
     fn rowid(&self) -> rusqlite::Result<i64> {
         Ok(self.at as i64 + 1)
+    }
+}
+
+/// ambit_layers: name, features, vertices, bytes of every layer.
+pub struct Layers;
+
+impl RowSource for Layers {
+    const SCHEMA: &'static CStr =
+        c"CREATE TABLE x(name TEXT, features INTEGER, vertices INTEGER, bytes INTEGER)";
+
+    fn plan(info: &mut IndexInfo) -> rusqlite::Result<bool> {
+        info.set_estimated_cost(10.0);
+        Ok(true)
+    }
+
+    fn rows(
+        state: &Arc<ConnState>,
+        _idx: c_int,
+        _values: &Filters<'_>,
+    ) -> rusqlite::Result<Vec<Vec<Value>>> {
+        Ok(state
+            .all()
+            .into_iter()
+            .map(|(name, layer)| {
+                vec![
+                    Value::Text(name),
+                    Value::Integer(layer.features().len() as i64),
+                    Value::Integer(layer.vertices() as i64),
+                    Value::Integer(layer.bytes() as i64),
+                ]
+            })
+            .collect())
+    }
+}
+
+const NEAR: &str = "ambit_near";
+const NEAR_PARAMS: &[&str] = &["layer", "geom", "metres"];
+
+/// ambit_near(layer, geom [, metres]): feature_id, distance_m.
+pub struct Near;
+
+impl RowSource for Near {
+    const SCHEMA: &'static CStr =
+        c"CREATE TABLE x(feature_id INTEGER, distance_m REAL, layer HIDDEN, geom HIDDEN, metres HIDDEN)";
+
+    fn plan(info: &mut IndexInfo) -> rusqlite::Result<bool> {
+        argument_plan(info, 2, 3, 2)
+    }
+
+    fn rows(
+        state: &Arc<ConnState>,
+        idx: c_int,
+        values: &Filters<'_>,
+    ) -> rusqlite::Result<Vec<Vec<Value>>> {
+        if idx & 0b11 != 0b11 {
+            return Err(table_error(
+                NEAR,
+                "needs a layer name and a geometry: SELECT * FROM ambit_near('layer', geom [, metres])",
+            ));
+        }
+        let args = Args::new(NEAR, NEAR_PARAMS, arguments(idx, values, 3), state);
+        guard(NEAR, || {
+            let Some(name) = args.text(0)? else {
+                return Ok(Vec::new());
+            };
+            let layer = args.state().layer(NEAR, name)?;
+            let metres = distance_arg(&args, 2)?;
+            let near = match args.geometry(1)? {
+                Some(d) => layer.near(&Prepared::new(&d.geometry), metres),
+                None => Vec::new(),
+            };
+            Ok(near
+                .into_iter()
+                .map(|(id, d)| vec![Value::Integer(id), Value::Real(d)])
+                .collect())
+        })
     }
 }

@@ -97,3 +97,23 @@ pub fn query(sql: &str) -> String {
     );
     run.stdout.trim_end().to_string()
 }
+
+/// Runs a check script of tests/python/ with the built library as its
+/// argument, asserts it succeeded with its closing "N passed, 0 failed"
+/// line, and returns what it printed.
+pub fn python_check(script: &str) -> String {
+    let path = format!("{}/tests/python/{script}", env!("CARGO_MANIFEST_DIR"));
+    let out = Command::new("python3")
+        .arg(&path)
+        .arg(library())
+        .output()
+        .expect("python3 is needed; tests/prepare-host installs it");
+    let stdout = String::from_utf8_lossy(&out.stdout).into_owned();
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        out.status.success(),
+        "{script} failed (missing packages? run tests/prepare-host)\n{stdout}\n{stderr}"
+    );
+    assert!(stdout.contains(" passed, 0 failed"), "{stdout}");
+    stdout
+}
