@@ -329,3 +329,52 @@ fn round_trips_in_the_shell_are_exact() {
         assert_eq!(query(&sql), format!("{wkt}|{wkt}|1"), "{wkt}");
     }
 }
+
+#[test]
+fn gpkg_register_refuses_what_a_geopackage_cannot_hold_and_changes_no_row() {
+    let setup = "CREATE TABLE t(fid INTEGER PRIMARY KEY, geom BLOB);";
+    for (rows, message) in [
+        (
+            "INSERT INTO t(geom) VALUES (ST_Point(1, 2)), ('POINT (1 2)');",
+            "ambit_gpkg_register: column 'geom' of 't' holds a text value in the row with rowid 2; only geometry blobs can be registered",
+        ),
+        (
+            "INSERT INTO t(geom) VALUES (ST_Point(1, 2)), (ST_Point(1, 2, 4269));",
+            "srs_id 4269 differs from srs_id 4326 of earlier rows",
+        ),
+        (
+            "INSERT INTO t(geom) VALUES (ST_AsBinary(ST_Point(1, 2)));",
+            "holds plain WKB; a GeoPackage layer needs GeoPackage geometry blobs",
+        ),
+    ] {
+        let r = shell(&format!("{setup}{rows}SELECT ambit_gpkg_register('t', 'geom');\nSELECT 'alive';"));
+        assert_eq!(r.status, 1, "{rows}");
+        assert!(r.stderr.contains(message), "{rows}\n{}", r.stderr);
+        assert_eq!(r.stdout.trim(), "alive");
+    }
+    let r = shell(&format!(
+        "{setup}INSERT INTO t(geom) VALUES (ST_Point(1, 2));
+         SELECT ambit_gpkg_register('t', 'geom', 'POLYGON');
+         SELECT ambit_gpkg_register('t', 'nope');
+         SELECT ambit_gpkg_register('nope', 'geom');
+         SELECT ambit_gpkg_register('t', 'geom', 'CIRCLE');"
+    ));
+    for message in [
+        "holds POINT geometries, which a POLYGON column cannot hold",
+        "table 't' has no column 'nope' (its columns: fid, geom)",
+        "ambit_gpkg_register: no table named 'nope'",
+        "'CIRCLE' is not a GeoPackage geometry type",
+    ] {
+        assert!(r.stderr.contains(message), "{message}\n{}", r.stderr);
+    }
+    // The rows are the same bytes before and after registering.
+    let out = query(&format!(
+        "{setup}INSERT INTO t(geom) VALUES (ST_GeomFromText('POLYGON ((0 0, 1 0, 1 1, 0 0))')), (NULL), (ST_Point(3, 4));
+         CREATE TABLE before AS SELECT fid, geom FROM t;
+         SELECT ambit_gpkg_register('t', 'geom');
+         SELECT count(*) FROM t JOIN before USING (fid) WHERE t.geom IS before.geom;
+         SELECT geometry_type_name, min_x, max_y FROM gpkg_geometry_columns JOIN gpkg_contents USING (table_name);
+         PRAGMA application_id;"
+    ));
+    assert_eq!(out, "2\n3\nGEOMETRY|0.0|4.0\n1196444487");
+}
