@@ -14,9 +14,14 @@ use crate::sql::state::ConnState;
 pub struct Args<'a> {
     name: &'static str,
     params: &'static [&'static str],
-    values: Vec<ValueRef<'a>>,
+    values: [ValueRef<'a>; MAX_ARGS],
+    len: usize,
     state: &'a ConnState,
 }
+
+/// The most arguments any ambit function takes (held inline: no allocation
+/// per call).
+pub const MAX_ARGS: usize = 8;
 
 /// How an SQL value is described in an error message.
 fn describe(value: ValueRef<'_>) -> String {
@@ -39,16 +44,24 @@ fn describe(value: ValueRef<'_>) -> String {
 impl<'a> Args<'a> {
     /// The arguments `values` of a call of `name`, whose parameters are
     /// called `params`.
+    /// Arguments past [`MAX_ARGS`] are ignored (no function takes them).
     pub fn new(
         name: &'static str,
         params: &'static [&'static str],
-        values: Vec<ValueRef<'a>>,
+        values: impl IntoIterator<Item = ValueRef<'a>>,
         state: &'a ConnState,
     ) -> Self {
+        let mut inline = [ValueRef::Null; MAX_ARGS];
+        let mut len = 0;
+        for (slot, v) in inline.iter_mut().zip(values) {
+            *slot = v;
+            len += 1;
+        }
         Args {
             name,
             params,
-            values,
+            values: inline,
+            len,
             state,
         }
     }
@@ -65,16 +78,20 @@ impl<'a> Args<'a> {
 
     /// How many arguments were passed.
     pub fn len(&self) -> usize {
-        self.values.len()
+        self.len
     }
 
     /// True when no argument was passed.
     pub fn is_empty(&self) -> bool {
-        self.values.is_empty()
+        self.len == 0
     }
 
     fn raw(&self, i: usize) -> ValueRef<'a> {
-        self.values.get(i).copied().unwrap_or(ValueRef::Null)
+        if i < self.len {
+            self.values[i]
+        } else {
+            ValueRef::Null
+        }
     }
 
     /// An error about the whole call.

@@ -168,7 +168,7 @@ impl Aggregate<Pending, i64> for LayerBuilder {
     }
 
     fn step(&self, ctx: &mut Context<'_>, acc: &mut Pending) -> rusqlite::Result<()> {
-        let values = (0..ctx.len()).map(|i| ctx.get_raw(i)).collect();
+        let values = (0..ctx.len()).map(|i| ctx.get_raw(i));
         let args = Args::new(LAYER, LAYER_PARAMS, values, &self.state);
         guard(LAYER, || self.step_args(&args, acc))
     }

@@ -86,7 +86,7 @@ pub fn register(conn: &Connection) -> rusqlite::Result<()> {
             let function: &'static SqlFunction = f;
             let state = Arc::clone(&state);
             conn.create_scalar_function(f.name, arity as i32, flags, move |ctx| {
-                let values = (0..ctx.len()).map(|i| ctx.get_raw(i)).collect();
+                let values = (0..ctx.len()).map(|i| ctx.get_raw(i));
                 let args = Args::new(function.name, function.params, values, &state);
                 guard(function.name, || (function.body)(&args))
             })?;
