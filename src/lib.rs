@@ -11,6 +11,7 @@ pub mod geodesy;
 pub mod geometry;
 pub mod proximity;
 pub mod sql;
+pub mod stats;
 pub mod units;
 
 #[doc(hidden)]

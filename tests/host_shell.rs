@@ -40,6 +40,11 @@ const FUNCTIONS: &[&str] = &[
     "ambit_km",
     "ambit_version",
     "ambit_info",
+    // The SQL standard's aggregates that SQLite lacks (src/sql/stats.rs).
+    "stddev_samp",
+    "stddev_pop",
+    "var_samp",
+    "var_pop",
 ];
 
 #[test]
@@ -48,6 +53,7 @@ fn registers_the_vocabulary_deterministic_where_it_is() {
     let out = query(
         "SELECT name, max(flags & 0x800 != 0) FROM pragma_function_list \
          WHERE name LIKE 'st\\_%' ESCAPE '\\' OR name LIKE 'ambit\\_%' ESCAPE '\\' \
+         OR name IN ('stddev_samp', 'stddev_pop', 'var_samp', 'var_pop') \
          GROUP BY name ORDER BY name;",
     );
     let mut expected: Vec<String> = FUNCTIONS
@@ -251,6 +257,10 @@ const BAD_INPUTS: &[Bad] = &[
     Bad {
         sql: "SELECT ambit_miles('half');",
         message: &["ambit_miles: argument 1 (miles): must be a number, got text 'half'"],
+    },
+    Bad {
+        sql: "SELECT stddev_samp(x) FROM (SELECT 'abc' AS x);",
+        message: &["stddev_samp: argument 1 (x): must be a number, got text 'abc'"],
     },
 ];
 

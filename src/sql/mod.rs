@@ -15,6 +15,7 @@ pub mod io;
 pub mod layer;
 pub mod measure;
 pub mod state;
+pub mod stats;
 pub mod sweep;
 pub mod tables;
 pub mod units;
@@ -94,6 +95,7 @@ pub fn register(conn: &Connection) -> rusqlite::Result<()> {
     }
     layer::register_aggregate(conn, &state)?;
     gpkg::register(conn)?;
+    stats::register(conn)?;
     tables::register(conn, &state)?;
     Ok(())
 }
