@@ -113,6 +113,16 @@ pub enum GeomError {
         expected: &'static str,
         found: &'static str,
     },
+    /// A geometry a map cannot fill (a point or a line where areas are
+    /// drawn); `found` is its WKT keyword.
+    NotPolygonal {
+        found: &'static str,
+    },
+    /// Feature properties that are not a JSON object (RFC 7946, section
+    /// 3.2); `found` says what they are instead.
+    NotJsonObject {
+        found: String,
+    },
 }
 
 impl fmt::Display for GeomError {
@@ -211,6 +221,14 @@ impl fmt::Display for GeomError {
             Wkt { position, message } => write!(f, "malformed WKT at character {position}: {message}"),
             GeoJson { message } => write!(f, "malformed GeoJSON: {message}"),
             WrongType { expected, found } => write!(f, "expected a {expected}, got a {found}"),
+            NotPolygonal { found } => write!(
+                f,
+                "expects polygons (POLYGON or MULTIPOLYGON), got a {found}; a choropleth fills areas"
+            ),
+            NotJsonObject { found } => write!(
+                f,
+                "must be a JSON object such as json_object(...) returns (RFC 7946, section 3.2), got {found}"
+            ),
         }
     }
 }

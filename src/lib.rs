@@ -10,6 +10,7 @@ pub mod error;
 pub mod geodesy;
 pub mod geometry;
 pub mod proximity;
+pub mod render;
 pub mod sql;
 pub mod stats;
 pub mod units;

@@ -35,6 +35,8 @@ const FUNCTIONS: &[&str] = &[
     "ambit_nearest",
     "ambit_count",
     "ambit_gpkg_register",
+    "ambit_feature_collection",
+    "ambit_choropleth_svg",
     "ambit_miles",
     "ambit_feet",
     "ambit_km",
@@ -59,8 +61,9 @@ fn registers_the_vocabulary_deterministic_where_it_is() {
     let mut expected: Vec<String> = FUNCTIONS
         .iter()
         .map(|f| {
-            // Layer functions depend on the connection's layers, and
-            // ambit_info on the thread pool.
+            // Layer functions depend on the connection's layers,
+            // ambit_info on the thread pool, and the rendering aggregates
+            // on the order of their rows.
             let deterministic = !matches!(
                 *f,
                 "ambit_info"
@@ -70,6 +73,8 @@ fn registers_the_vocabulary_deterministic_where_it_is() {
                     | "ambit_nearest"
                     | "ambit_count"
                     | "ambit_gpkg_register"
+                    | "ambit_feature_collection"
+                    | "ambit_choropleth_svg"
             );
             format!("{}|{}", f.to_lowercase(), deterministic as i32)
         })
@@ -253,6 +258,22 @@ const BAD_INPUTS: &[Bad] = &[
     Bad {
         sql: "SELECT ambit_area('POLYGON ((0 0, 1 0, 1 1, 0 0))');",
         message: &["ambit_area: argument 1 (geom): must be a geometry blob, got text"],
+    },
+    Bad {
+        sql: "SELECT ambit_feature_collection(ST_Point(1, 2), '[1, 2]');",
+        message: &["ambit_feature_collection: argument 2 (properties): must be a JSON object", "got a JSON array (row 1)"],
+    },
+    Bad {
+        sql: "SELECT ambit_choropleth_svg(ST_Point(1, 2), 5);",
+        message: &["ambit_choropleth_svg: argument 1 (geom): expects polygons (POLYGON or MULTIPOLYGON), got a POINT"],
+    },
+    Bad {
+        sql: "SELECT ambit_choropleth_svg(ST_GeomFromText('POLYGON ((0 0, 1 0, 1 1, 0 0))'), 'x');",
+        message: &["ambit_choropleth_svg: argument 2 (value): must be a number, got text 'x'"],
+    },
+    Bad {
+        sql: "SELECT ambit_choropleth_svg(ST_Point(1, 2));",
+        message: &["wrong number of arguments to function ambit_choropleth_svg()"],
     },
     Bad {
         sql: "SELECT ambit_miles('half');",

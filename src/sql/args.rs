@@ -24,7 +24,7 @@ pub struct Args<'a> {
 pub const MAX_ARGS: usize = 8;
 
 /// How an SQL value is described in an error message.
-fn describe(value: ValueRef<'_>) -> String {
+pub fn describe(value: ValueRef<'_>) -> String {
     match value {
         ValueRef::Null => "NULL".to_string(),
         ValueRef::Integer(i) => format!("integer {i}"),

@@ -14,6 +14,7 @@ pub mod info;
 pub mod io;
 pub mod layer;
 pub mod measure;
+pub mod render;
 pub mod state;
 pub mod stats;
 pub mod sweep;
@@ -95,6 +96,7 @@ pub fn register(conn: &Connection) -> rusqlite::Result<()> {
     }
     layer::register_aggregate(conn, &state)?;
     gpkg::register(conn)?;
+    render::register(conn)?;
     stats::register(conn)?;
     tables::register(conn, &state)?;
     Ok(())
