@@ -18,8 +18,8 @@
 -- parks (geom), rec_sites and fitness_list (two facility lists to merge),
 -- urban_areas (geom). Outputs: build_parameters, facilities, block_access
 -- and county_access (both registered as GeoPackage layers, so any GIS
--- opens them), and results/county-exercise-access.csv for joining with
--- other county measures by county_geoid.
+-- opens them), results/county-exercise-access.csv for joining with other
+-- county measures by county_geoid, and results/exercise-access-map.svg.
 --
 -- Cautions, carried into the outputs: straight-line reach is not walking
 -- access; barriers, entrances, fees and opening hours are not seen; the
@@ -161,14 +161,20 @@ UPDATE gpkg_contents SET description =
   'Recreation facilities merged from rec_sites and fitness_list, tagged urban or rural, with their reach.'
   WHERE table_name = 'facilities';
 
--- 8. The county table as CSV, for joining with other county measures. ----
+-- 8. A quick-look map of the county shares, for the report. -------------
+SELECT writefile('results/exercise-access-map.svg',
+  ambit_choropleth_svg(geom, pct_with_access,
+    'Residents within reach of exercise opportunities (%), invented demo region'))
+FROM (SELECT geom, pct_with_access FROM county_access ORDER BY county_geoid);
+
+-- 9. The county table as CSV, for joining with other county measures. ----
 .headers on
 .mode csv
 .once results/county-exercise-access.csv
 SELECT county_geoid, county_name, build_year, blocks, blocks_with_access, population,
        population_with_access, pct_with_access FROM county_access ORDER BY county_geoid;
 
--- 9. Print it. -------------------------------------------------------------
+-- 10. Print it. ------------------------------------------------------------
 .output stdout
 .mode box
 SELECT county_geoid AS county, county_name AS name, blocks, population,

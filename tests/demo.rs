@@ -261,6 +261,13 @@ fn the_indicator_equals_an_independent_computation() {
         // State 2 + county 3 digits; the state code 99 is the invented one.
         assert!(r[0].len() == 5 && r[0].starts_with("99"), "{}", r[0]);
     }
+    // The map the script draws is the one README.md shows.
+    let map = std::fs::read(dir.join("results/exercise-access-map.svg")).unwrap();
+    let committed = std::fs::read(root().join("demo-db/exercise-access-map.svg")).unwrap();
+    assert!(
+        map == committed,
+        "demo-db/exercise-access-map.svg is stale: copy results/exercise-access-map.svg over it after running the README's first command"
+    );
     // The CSV for joining carries the same figures.
     let csv = std::fs::read_to_string(dir.join("results/county-exercise-access.csv")).unwrap();
     assert!(
