@@ -66,6 +66,7 @@
 //! `demo-db/build-region` gives byte-identical GeoPackages too (checked by
 //! tests/region.rs); `gpkg_contents.last_change` is fixed for that reason.
 
+use ambit::blob::gpkg_tables;
 use ambit::blob::wkt;
 use ambit::geometry::{Dimensions, Geometry, Shape};
 use std::collections::HashMap;
@@ -1505,10 +1506,6 @@ fn ragged(r: &mut Rng, k: usize, lo: f64, hi: f64) -> Vec<f64> {
 // load.sql
 // ----------------------------------------------------------------------
 
-/// The WGS 84 geographic definition (OGC WKT 1 as GeoPackages usually carry
-/// it; from memory).
-const WGS84_WKT: &str = "GEOGCS[\"WGS 84\",DATUM[\"WGS_1984\",SPHEROID[\"WGS 84\",6378137,298.257223563,AUTHORITY[\"EPSG\",\"7030\"]],AUTHORITY[\"EPSG\",\"6326\"]],PRIMEM[\"Greenwich\",0,AUTHORITY[\"EPSG\",\"8901\"]],UNIT[\"degree\",0.0174532925199433,AUTHORITY[\"EPSG\",\"9122\"]],AUTHORITY[\"EPSG\",\"4326\"]]";
-
 /// One feature table: its columns as created (the geometry column declared
 /// with its `geometry_type_name`, as OGC 12-128 asks of feature tables, from
 /// memory; SQLite stores the blobs unchanged whatever the declared type), the columns of its staging
@@ -1636,26 +1633,36 @@ fn load_sql(
         dir.join("load.sql").display()
     );
     let _ = writeln!(w, ".bail on");
-    let _ = writeln!(w, "PRAGMA application_id = 1196444487; -- 'GPKG'");
-    let _ = writeln!(w, "PRAGMA user_version = 10300; -- GeoPackage 1.3.0");
-    let _ = writeln!(w, "PRAGMA synchronous = OFF;\n");
     let _ = writeln!(
         w,
-        "CREATE TABLE gpkg_spatial_ref_sys (\n  srs_name TEXT NOT NULL,\n  srs_id INTEGER NOT NULL PRIMARY KEY,\n  organization TEXT NOT NULL,\n  organization_coordsys_id INTEGER NOT NULL,\n  definition TEXT NOT NULL,\n  description TEXT\n);"
+        "PRAGMA application_id = {}; -- 'GPKG'",
+        gpkg_tables::APPLICATION_ID
     );
     let _ = writeln!(
         w,
-        "INSERT INTO gpkg_spatial_ref_sys VALUES\n  ('Undefined cartesian SRS', -1, 'NONE', -1, 'undefined', 'undefined cartesian coordinate reference system'),\n  ('Undefined geographic SRS', 0, 'NONE', 0, 'undefined', 'undefined geographic coordinate reference system'),\n  ('WGS 84 geodetic', 4326, 'EPSG', 4326, {}, 'longitude/latitude coordinates in decimal degrees on the WGS 84 spheroid');",
-        sql_text(WGS84_WKT)
+        "PRAGMA user_version = {}; -- GeoPackage 1.3.0",
+        gpkg_tables::USER_VERSION
     );
-    let _ = writeln!(
-        w,
-        "CREATE TABLE gpkg_contents (\n  table_name TEXT NOT NULL PRIMARY KEY,\n  data_type TEXT NOT NULL,\n  identifier TEXT UNIQUE,\n  description TEXT DEFAULT '',\n  last_change DATETIME NOT NULL DEFAULT (strftime('%Y-%m-%dT%H:%M:%fZ','now')),\n  min_x DOUBLE,\n  min_y DOUBLE,\n  max_x DOUBLE,\n  max_y DOUBLE,\n  srs_id INTEGER,\n  CONSTRAINT fk_gc_r_srs_id FOREIGN KEY (srs_id) REFERENCES gpkg_spatial_ref_sys(srs_id)\n);"
-    );
-    let _ = writeln!(
-        w,
-        "CREATE TABLE gpkg_geometry_columns (\n  table_name TEXT NOT NULL,\n  column_name TEXT NOT NULL,\n  geometry_type_name TEXT NOT NULL,\n  srs_id INTEGER NOT NULL,\n  z TINYINT NOT NULL,\n  m TINYINT NOT NULL,\n  CONSTRAINT pk_geom_cols PRIMARY KEY (table_name, column_name),\n  CONSTRAINT uk_gc_table_name UNIQUE (table_name),\n  CONSTRAINT fk_gc_tn FOREIGN KEY (table_name) REFERENCES gpkg_contents(table_name),\n  CONSTRAINT fk_gc_srs FOREIGN KEY (srs_id) REFERENCES gpkg_spatial_ref_sys (srs_id)\n);\n"
-    );
+    let _ = writeln!(w, "PRAGMA synchronous = OFF;");
+    // The container tables and the three spatial reference rows every
+    // GeoPackage must hold, as ambit writes them (crate::blob::gpkg_tables).
+    let _ = writeln!(w, "{}", gpkg_tables::CREATE_TABLES.trim());
+    for r in gpkg_tables::SPATIAL_REFS
+        .iter()
+        .filter(|r| [-1, 0, 4326].contains(&r.srs_id))
+    {
+        let _ = writeln!(
+            w,
+            "INSERT INTO gpkg_spatial_ref_sys VALUES ({}, {}, {}, {}, {}, {});",
+            sql_text(r.srs_name),
+            r.srs_id,
+            sql_text(r.organization),
+            r.organization_coordsys_id,
+            sql_text(r.definition),
+            sql_text(r.description)
+        );
+    }
+    let _ = writeln!(w);
     for t in &TABLES {
         let _ = writeln!(w, "CREATE TABLE {} ({});", t.name, t.columns);
         let _ = writeln!(w, "CREATE TABLE staging_{} ({});", t.name, t.staging);
