@@ -338,7 +338,7 @@ pub fn write_into(g: &Geometry, out: &mut Vec<u8>) {
     }
 }
 
-/// The exact length of [`write`]'s output.
+/// The exact length of [`fn@write`]'s output.
 pub fn encoded_len(g: &Geometry) -> usize {
     let width = g.dims.width();
     let line = |p: &Part| 4 + p.len() * 8;

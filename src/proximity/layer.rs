@@ -5,10 +5,10 @@
 //! A feature is within reach of a geometry `g` when the geodesic minimum
 //! distance between them is at most the feature's reach (ties count as
 //! within). The index holds, for every feature, the boxes of its elements'
-//! bounding balls grown by its reach ([`LonLatBox`], split at the
+//! bounding balls grown by its reach ([`crate::proximity::boxes::LonLatBox`], split at the
 //! antimeridian and rounded outward): any feature within reach of `g` has a
 //! box meeting `g`'s box, so the index never loses a candidate, and the
-//! answer is decided by the exact test of [`crate::proximity::distance`].
+//! answer is decided by the exact test of [`mod@crate::proximity::distance`].
 //! Results never depend on the order in which features were added.
 
 use rstar::primitives::{GeomWithData, Rectangle};

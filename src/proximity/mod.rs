@@ -1,6 +1,6 @@
 //! Proximity between geometries on the WGS84 ellipsoid: prepared geometry
 //! with bounding balls ([`prepared`]), point in polygon with geodesic edges
-//! ([`contain`]), and minimum distance / within-distance ([`distance`]).
+//! ([`contain`]), and minimum distance / within-distance ([`mod@distance`]).
 
 pub mod boxes;
 pub mod contain;

@@ -3,7 +3,7 @@
 //! SQL errors that name the function, the argument and the problem. It
 //! computes no geometry itself.
 //!
-//! Every function is a row of [`FUNCTIONS`]: its SQL name, its parameter
+//! Every function is a row of the `FUNCTIONS` tables: its SQL name, its parameter
 //! names (the last `optional` of them may be left out), whether it is
 //! deterministic, and its body. [`register`] walks that table.
 

@@ -1,5 +1,5 @@
 //! ambit's table-valued functions, as SQLite virtual tables
-//! (https://sqlite.org/vtab.html, eponymous-only modules):
+//! (<https://sqlite.org/vtab.html>, eponymous-only modules):
 //!
 //! ```text
 //! SELECT * FROM ambit_layers;                       -> name, features, vertices, bytes
