@@ -11,6 +11,7 @@ mod geodesic_reference;
 use ambit::geodesy::segment::GeodesicSegment;
 use ambit::geodesy::{point_segment_distance, segment_segment_distance, segments_intersect};
 use geodesic_reference::{brute_psd, brute_ssd, direct, geod, RefLine, XorShift};
+use geographiclib_rs::Geodesic;
 
 /// A random segment: first end at latitude -70..70 (10% of cases within
 /// 0.2 degrees of the antimeridian), length log-uniform in [lmin, lmax].
@@ -30,6 +31,27 @@ fn random_segment(
     let a = (lon, lat);
     let b = direct(g, a, rng.range(-180.0, 180.0), rng.log_range(lmin, lmax));
     (a, b)
+}
+
+/// ambit's point-to-segment distance for case `i`, checked against the
+/// brute-force reference to 1 µm; returns (distance, interception steps,
+/// fell back, |error|, reference).
+fn checked_distance(
+    g: &Geodesic,
+    i: usize,
+    p: (f64, f64),
+    a: (f64, f64),
+    b: (f64, f64),
+    rl: &RefLine,
+) -> (f64, u32, bool, f64, f64) {
+    let (d, steps, fell) = GeodesicSegment::new(a, b).distance_to_with_steps(p);
+    let r = brute_psd(g, p, rl);
+    let err = (d - r).abs();
+    assert!(
+        err <= 1e-6,
+        "case {i}: p {p:?} a {a:?} b {b:?}: {d} vs brute {r}"
+    );
+    (d, steps, fell, err, r)
 }
 
 #[test]
@@ -63,19 +85,12 @@ fn point_segment_matches_brute_force() {
             let base = rl.at(rng.range(-0.2, 1.2) * rl.len);
             direct(&g, base, rng.range(-180.0, 180.0), rng.range(0.0, 50_000.0))
         };
-        let seg = GeodesicSegment::new(a, b);
-        let (d, steps, fell) = seg.distance_to_with_steps(p);
+        let (d, steps, fell, err, r) = checked_distance(&g, i, p, a, b, &rl);
         hist[(steps as usize).min(16)] += 1;
         if fell {
             fallbacks += 1;
         }
         assert_eq!(d, point_segment_distance(p, a, b));
-        let r = brute_psd(&g, p, &rl);
-        let err = (d - r).abs();
-        assert!(
-            err <= 1e-6,
-            "case {i}: p {p:?} a {a:?} b {b:?}: {d} vs brute {r}"
-        );
         max_err = max_err.max(err);
         if r > 1.0 {
             max_err_off = max_err_off.max(err);
@@ -114,15 +129,9 @@ fn point_segment_long_segments_and_far_points() {
             rng.range(-180.0, 180.0),
             rng.range(0.0, 1_000_000.0),
         );
-        let (d, steps, fell) = GeodesicSegment::new(a, b).distance_to_with_steps(p);
+        let (_, steps, fell, err, _) = checked_distance(&g, i, p, a, b, &rl);
         assert!(!fell, "case {i} fell back");
         max_steps = max_steps.max(steps);
-        let r = brute_psd(&g, p, &rl);
-        let err = (d - r).abs();
-        assert!(
-            err <= 1e-6,
-            "case {i}: p {p:?} a {a:?} b {b:?}: {d} vs brute {r}"
-        );
         max_err = max_err.max(err);
     }
     println!(
@@ -248,15 +257,9 @@ fn point_segment_near_the_poles() {
         let rl = RefLine::new(&g, a, b);
         let base = rl.at(rng.range(-0.2, 1.2) * rl.len);
         let p = direct(&g, base, rng.range(-180.0, 180.0), rng.range(0.0, 50_000.0));
-        let (d, steps, fell) = GeodesicSegment::new(a, b).distance_to_with_steps(p);
+        let (_, steps, fell, err, _) = checked_distance(&g, i, p, a, b, &rl);
         assert!(!fell, "case {i} fell back");
         max_steps = max_steps.max(steps);
-        let r = brute_psd(&g, p, &rl);
-        let err = (d - r).abs();
-        assert!(
-            err <= 1e-6,
-            "case {i}: p {p:?} a {a:?} b {b:?}: {d} vs brute {r}"
-        );
         max_err = max_err.max(err);
     }
     println!(
