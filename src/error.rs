@@ -113,10 +113,11 @@ pub enum GeomError {
         expected: &'static str,
         found: &'static str,
     },
-    /// A geometry a map cannot fill (a point or a line where areas are
-    /// drawn); `found` is its WKT keyword.
+    /// A point or a line where an operation needs areas; `found` is its
+    /// WKT keyword, `purpose` says why areas are needed.
     NotPolygonal {
         found: &'static str,
+        purpose: &'static str,
     },
     /// Feature properties that are not a JSON object (RFC 7946, section
     /// 3.2); `found` says what they are instead.
@@ -221,9 +222,9 @@ impl fmt::Display for GeomError {
             Wkt { position, message } => write!(f, "malformed WKT at character {position}: {message}"),
             GeoJson { message } => write!(f, "malformed GeoJSON: {message}"),
             WrongType { expected, found } => write!(f, "expected a {expected}, got a {found}"),
-            NotPolygonal { found } => write!(
+            NotPolygonal { found, purpose } => write!(
                 f,
-                "expects polygons (POLYGON or MULTIPOLYGON), got a {found}; a choropleth fills areas"
+                "expects polygons (POLYGON or MULTIPOLYGON), got a {found}; {purpose}"
             ),
             NotJsonObject { found } => write!(
                 f,

@@ -34,6 +34,7 @@ const FUNCTIONS: &[&str] = &[
     "ambit_reached",
     "ambit_nearest",
     "ambit_count",
+    "ambit_share",
     "ambit_gpkg_register",
     "ambit_feature_collection",
     "ambit_choropleth_svg",
@@ -72,6 +73,7 @@ fn registers_the_vocabulary_deterministic_where_it_is() {
                     | "ambit_reached"
                     | "ambit_nearest"
                     | "ambit_count"
+                    | "ambit_share"
                     | "ambit_gpkg_register"
                     | "ambit_feature_collection"
                     | "ambit_choropleth_svg"

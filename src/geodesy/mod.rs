@@ -22,6 +22,7 @@
 
 pub mod area;
 pub mod ellipsoid;
+pub mod frame;
 pub mod inverse;
 pub mod local;
 pub mod segment;

@@ -13,6 +13,8 @@
 
 pub mod validate;
 
+use crate::error::GeomError;
+
 /// Which ordinates each vertex carries, as in the WKB type codes of ISO
 /// 13249-3 / OGC 06-103r4 (base code + 0, 1000, 2000, 3000).
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
@@ -216,6 +218,19 @@ impl Geometry {
     }
 
     /// Its Simple Features type.
+    /// `Ok` for a polygon or a multipolygon (empty or not); else
+    /// [`GeomError::NotPolygonal`] with `purpose` saying why areas are
+    /// needed.
+    pub fn require_polygonal(&self, purpose: &'static str) -> Result<(), GeomError> {
+        match self.shape {
+            Shape::Polygon(_) | Shape::MultiPolygon(_) => Ok(()),
+            _ => Err(GeomError::NotPolygonal {
+                found: self.geometry_type().wkt_keyword(),
+                purpose,
+            }),
+        }
+    }
+
     pub fn geometry_type(&self) -> GeometryType {
         match &self.shape {
             Shape::Point(_) => GeometryType::Point,

@@ -16,6 +16,7 @@ use rstar::RTree;
 
 use crate::proximity::distance::{distance_within, within};
 use crate::proximity::prepared::Prepared;
+use crate::proximity::share::{coverage_share, ShareError};
 
 /// Half the circumference, metres: no two points are farther apart.
 const MAX_SEPARATION: f64 = 20_004_000.0;
@@ -125,6 +126,23 @@ impl Layer {
             found.dedup();
         }
         found
+    }
+
+    /// The features within their reach of `g`, in the order they were
+    /// added.
+    pub fn reaching(&self, g: &Prepared) -> Vec<&Feature> {
+        self.candidates(g, 0.0)
+            .into_iter()
+            .map(|i| &self.features[i])
+            .filter(|f| within(g, &f.geometry, f.reach))
+            .collect()
+    }
+
+    /// The share (0..=1) of the area of polygon `g` lying within reach of
+    /// some feature: see [`crate::proximity::share`] for the method and its
+    /// accuracy. `None` for an empty `g` or one of zero area.
+    pub fn share(&self, g: &Prepared) -> Result<Option<f64>, ShareError> {
+        coverage_share(g, &self.reaching(g))
     }
 
     /// True when some feature lies within its reach of `g`; stops at the

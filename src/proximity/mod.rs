@@ -7,6 +7,7 @@ pub mod contain;
 pub mod distance;
 pub mod layer;
 pub mod prepared;
+pub mod share;
 
 pub use distance::{distance, distance_within, within, within_counted, Work};
 pub use layer::{Feature, Layer};

@@ -57,7 +57,7 @@ use std::fmt::Write as _;
 
 use crate::error::GeomError;
 use crate::geodesy::inverse;
-use crate::geometry::{Geometry, Shape};
+use crate::geometry::Geometry;
 use crate::units::{METRES_PER_KILOMETRE, METRES_PER_MILE};
 
 /// How many classes a map has at most.
@@ -98,12 +98,7 @@ const SCALE_SHARE: f64 = 0.4;
 /// Checks that `g` is a polygon or a multipolygon, the shapes a choropleth
 /// fills.
 pub fn polygonal(g: &Geometry) -> Result<(), GeomError> {
-    match g.shape {
-        Shape::Polygon(_) | Shape::MultiPolygon(_) => Ok(()),
-        _ => Err(GeomError::NotPolygonal {
-            found: g.geometry_type().wkt_keyword(),
-        }),
-    }
+    g.require_polygonal("a choropleth fills areas")
 }
 
 /// The upper bounds of every class but the last for `values` in at most

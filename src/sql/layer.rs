@@ -45,6 +45,13 @@ pub const FUNCTIONS: &[SqlFunction] = &[
         deterministic: false,
         body: count,
     },
+    SqlFunction {
+        name: "ambit_share",
+        params: &["layer", "geom"],
+        optional: 0,
+        deterministic: false,
+        body: share,
+    },
 ];
 
 /// The parameters of the aggregate ambit_layer.
@@ -101,6 +108,24 @@ fn count(args: &Args) -> SqlResult {
         Some((layer, g)) => Value::Integer(layer.count(&g, metres) as i64),
         None => Value::Null,
     })
+}
+
+fn share(args: &Args) -> SqlResult {
+    let Some(layer) = layer_arg(args)? else {
+        return Ok(Value::Null);
+    };
+    let Some(decoded) = args.geometry(1)? else {
+        return Ok(Value::Null);
+    };
+    decoded
+        .geometry
+        .require_polygonal("a share is a part of an area; for points and lines ask ambit_reached")
+        .map_err(|e| args.fail_arg(1, e.to_string()))?;
+    let g = Prepared::new(&decoded.geometry);
+    match layer.share(&g) {
+        Ok(v) => Ok(v.map_or(Value::Null, Value::Real)),
+        Err(e) => Err(args.fail(e.to_string())),
+    }
 }
 
 fn drop_layer(args: &Args) -> SqlResult {

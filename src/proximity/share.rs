@@ -1,0 +1,903 @@
+//! Coverage share: the part of a polygon's area that lies within reach of
+//! a set of features (each with its own reach in metres).
+//!
+//! Method. The polygon `g` and every feature element that can matter are
+//! carried into an azimuthal equidistant plane centred on `g`
+//! ([`crate::geodesy::frame`]), where distances from the centre are exact
+//! geodesic distances. In that plane the region within reach of a feature
+//! is the union of a disc of radius `reach` around each of its isolated
+//! points, a capsule (the set within `reach` of a segment) around each of
+//! its edges, and its polygons' interiors. Each horizontal line y = c meets
+//! `g` in intervals and each of those convex pieces in one interval, in
+//! closed form (a disc's chord, a rectangle's and two discs' sections), and
+//! a polygon interior in the intervals between its edge crossings; so the
+//! covered length of `g` on the line is exact. The covered area is the
+//! integral of that length over y, by adaptive Gauss–Kronrod quadrature
+//! (the 7- and 15-point pair of Kronrod (1965) as tabulated in QUADPACK,
+//! Piessens et al. 1983), with every vertex height of `g`, the top and
+//! bottom of every disc and the corners of every capsule's rectangle as
+//! fixed break points, and bisection of the pieces with the largest error
+//! estimate until the estimates sum to at most 1e-8 of `g`'s area. No
+//! buffer polygon is ever approximated by vertices.
+//!
+//! Guarantees. The share is in [0, 1]; exactly 0 when no feature is within
+//! reach of `g` (decided by the exact test of [`mod@crate::proximity::distance`]),
+//! exactly 1 when `g` lies within reach of one feature by the triangle
+//! inequality on its bounding ball, or when no quadrature line finds any
+//! part of `g` outside reach. Otherwise its error is at most the
+//! quadrature tolerance (1e-8) plus the plane's scale error
+//! [`AzimuthalFrame::scale_error`] at the distance ρ of the farthest vertex
+//! used (3e-8 for a block 2 km across, 4e-5 for a county 150 km across;
+//! geodesic edges are taken as straight in the plane, a bow of millimetres
+//! for county edges of a few kilometres). Lines of `g` through the plane
+//! are computed in f64 throughout; features are used only where their
+//! elements' boxes meet `g`'s box grown by their reach.
+
+use std::cmp::Ordering;
+use std::collections::BinaryHeap;
+
+use crate::geodesy::frame::AzimuthalFrame;
+use crate::geometry::Geometry;
+use crate::proximity::boxes::LonLatBox;
+use crate::proximity::contain::point_in_prepared;
+use crate::proximity::distance::distance_within;
+use crate::proximity::layer::Feature;
+use crate::proximity::prepared::{Ball, Element, Prepared};
+
+/// Target for the sum of quadrature error estimates, relative to `g`'s
+/// area.
+pub const TOLERANCE: f64 = 1e-8;
+
+/// Above this estimated relative error after [`MAX_PIECES`] pieces the
+/// share is refused rather than returned.
+const GIVE_UP: f64 = 1e-6;
+
+/// Most quadrature pieces spent on one polygon beyond its break points.
+const MAX_PIECES: usize = 20_000;
+
+/// Why a share could not be given.
+#[derive(Clone, Debug, PartialEq)]
+pub enum ShareError {
+    /// The quadrature did not reach its tolerance; `estimate` is the
+    /// estimated relative error it reached.
+    NotConverged { estimate: f64 },
+}
+
+impl std::fmt::Display for ShareError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            ShareError::NotConverged { estimate } => write!(
+                f,
+                "the area integral did not converge (estimated relative error {estimate:.1e} after {MAX_PIECES} pieces); split the polygon into smaller parts"
+            ),
+        }
+    }
+}
+
+/// The share (0..=1) of the area of the polygons of `g` that lies within
+/// reach of some feature of `reaching` (the features already known to be
+/// within reach of `g`; others cannot cover any of it). `None` when `g` has
+/// no polygon of positive area. Points and lines of `g` are not areas and
+/// are ignored (the SQL layer refuses them).
+pub fn coverage_share(g: &Prepared, reaching: &[&Feature]) -> Result<Option<f64>, ShareError> {
+    let Some(ball) = g.ball.filter(|_| !g.polygons.is_empty()) else {
+        return Ok(None);
+    };
+    if reaching.is_empty() {
+        return Ok(area_positive(g, &ball).then_some(0.0));
+    }
+    if wholly_within_one(&ball, reaching) {
+        return Ok(area_positive(g, &ball).then_some(1.0));
+    }
+    let plane = Plane::new(g, &ball, reaching);
+    if plane.area <= 0.0 {
+        return Ok(None);
+    }
+    plane.integrate().map(Some)
+}
+
+/// True when `g`'s polygons enclose a positive area in the plane at its
+/// ball's centre.
+fn area_positive(g: &Prepared, ball: &Ball) -> bool {
+    let frame = AzimuthalFrame::new(ball.centre);
+    g.polygons.iter().flatten().any(|ring| {
+        let pts: Vec<(f64, f64)> = ring.iter().map(|&p| frame.forward(p)).collect();
+        shoelace(&pts) != 0.0
+    })
+}
+
+/// True when every point of the ball lies within reach of one feature:
+/// distance(centre, feature) + radius <= reach (triangle inequality).
+fn wholly_within_one(ball: &Ball, reaching: &[&Feature]) -> bool {
+    if !ball.radius.is_finite() {
+        return false;
+    }
+    let centre = Prepared::new(&Geometry::point(ball.centre.0, ball.centre.1));
+    reaching.iter().any(|f| {
+        let slack = f.reach - ball.radius;
+        slack >= 0.0
+            && distance_within(&centre, &f.geometry, slack)
+                .is_some_and(|d| d + ball.radius <= f.reach)
+    })
+}
+
+/// Twice-signed area of a closed ring in the plane, halved (shoelace).
+fn shoelace(ring: &[(f64, f64)]) -> f64 {
+    let mut s = 0.0;
+    for w in ring.windows(2) {
+        s += w[0].0 * w[1].1 - w[1].0 * w[0].1;
+    }
+    s / 2.0
+}
+
+/// A segment in the plane.
+#[derive(Clone, Copy, Debug)]
+struct Seg {
+    a: (f64, f64),
+    b: (f64, f64),
+}
+
+impl Seg {
+    /// x where the segment crosses the line y = c, if it does (half-open in
+    /// y, so a vertex on the line counts once).
+    fn crossing(&self, c: f64) -> Option<f64> {
+        let (a, b) = (self.a, self.b);
+        ((a.1 > c) != (b.1 > c)).then(|| a.0 + (c - a.1) * (b.0 - a.0) / (b.1 - a.1))
+    }
+
+    fn y_range(&self) -> (f64, f64) {
+        (self.a.1.min(self.b.1), self.a.1.max(self.b.1))
+    }
+}
+
+/// A convex piece of the region within reach: a disc or a capsule.
+#[derive(Clone, Copy, Debug)]
+enum Piece {
+    Disc {
+        c: (f64, f64),
+        r: f64,
+    },
+    /// The points within `r` of segment a-b: the rectangle `corners`
+    /// (a+rn, b+rn, b-rn, a-rn for the unit normal n) and discs at a and b.
+    Capsule {
+        a: (f64, f64),
+        b: (f64, f64),
+        r: f64,
+        corners: [(f64, f64); 4],
+    },
+}
+
+/// The chord of the disc (c, r) on the line y = y0.
+fn disc_section(c: (f64, f64), r: f64, y0: f64) -> Option<(f64, f64)> {
+    let dy = y0 - c.1;
+    let h2 = r * r - dy * dy;
+    (h2 > 0.0).then(|| {
+        let h = h2.sqrt();
+        (c.0 - h, c.0 + h)
+    })
+}
+
+/// The section of a convex quadrilateral by the line y = y0.
+fn quad_section(corners: &[(f64, f64); 4], y0: f64) -> Option<(f64, f64)> {
+    let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
+    for k in 0..4 {
+        let (p, q) = (corners[k], corners[(k + 1) % 4]);
+        if (p.1 > y0) != (q.1 > y0) {
+            let x = p.0 + (y0 - p.1) * (q.0 - p.0) / (q.1 - p.1);
+            lo = lo.min(x);
+            hi = hi.max(x);
+        }
+    }
+    (lo < hi).then_some((lo, hi))
+}
+
+fn hull(a: Option<(f64, f64)>, b: Option<(f64, f64)>) -> Option<(f64, f64)> {
+    match (a, b) {
+        (Some(a), Some(b)) => Some((a.0.min(b.0), a.1.max(b.1))),
+        (a, None) => a,
+        (None, b) => b,
+    }
+}
+
+impl Piece {
+    fn disc(c: (f64, f64), r: f64) -> Piece {
+        Piece::Disc { c, r }
+    }
+
+    fn capsule(a: (f64, f64), b: (f64, f64), r: f64) -> Piece {
+        let (dx, dy) = (b.0 - a.0, b.1 - a.1);
+        let len = dx.hypot(dy);
+        if len == 0.0 {
+            return Piece::disc(a, r);
+        }
+        let n = (-dy / len * r, dx / len * r);
+        Piece::Capsule {
+            a,
+            b,
+            r,
+            corners: [
+                (a.0 + n.0, a.1 + n.1),
+                (b.0 + n.0, b.1 + n.1),
+                (b.0 - n.0, b.1 - n.1),
+                (a.0 - n.0, a.1 - n.1),
+            ],
+        }
+    }
+
+    fn y_range(&self) -> (f64, f64) {
+        match *self {
+            Piece::Disc { c, r } => (c.1 - r, c.1 + r),
+            Piece::Capsule { a, b, r, .. } => (a.1.min(b.1) - r, a.1.max(b.1) + r),
+        }
+    }
+
+    /// The points where the section's ends are not smooth in y: the tops
+    /// and bottoms of the discs and the rectangle's corners.
+    fn break_points(&self, out: &mut Vec<(f64, f64)>) {
+        match *self {
+            Piece::Disc { c, r } => out.extend([(c.0, c.1 - r), (c.0, c.1 + r)]),
+            Piece::Capsule { a, b, r, corners } => {
+                out.extend([
+                    (a.0, a.1 - r),
+                    (a.0, a.1 + r),
+                    (b.0, b.1 - r),
+                    (b.0, b.1 + r),
+                ]);
+                out.extend(corners);
+            }
+        }
+    }
+
+    /// True when (x, y) lies inside the piece by more than `margin`.
+    fn holds_strictly(&self, (x, y): (f64, f64), margin: f64) -> bool {
+        self.section(y)
+            .is_some_and(|(lo, hi)| lo + margin < x && x < hi - margin)
+    }
+
+    /// The section of the piece by the line y = y0 (the piece is convex).
+    fn section(&self, y0: f64) -> Option<(f64, f64)> {
+        match *self {
+            Piece::Disc { c, r } => disc_section(c, r, y0),
+            Piece::Capsule { a, b, r, corners } => hull(
+                hull(disc_section(a, r, y0), disc_section(b, r, y0)),
+                quad_section(&corners, y0),
+            ),
+        }
+    }
+}
+
+/// Items with a y range, bucketed by height so a line meets only a few
+/// buckets' worth.
+struct ByHeight {
+    y0: f64,
+    step: f64,
+    buckets: Vec<Vec<u32>>,
+}
+
+impl ByHeight {
+    fn new(ranges: &[(f64, f64)], lo: f64, hi: f64) -> ByHeight {
+        let extent = hi - lo;
+        let n = ranges.len();
+        let mean_height = ranges.iter().map(|r| r.1 - r.0).sum::<f64>() / n.max(1) as f64;
+        let wanted = if mean_height > 0.0 {
+            (extent / mean_height).floor()
+        } else {
+            n as f64
+        };
+        let count = wanted.clamp(1.0, 4096.0f64.min(n.max(1) as f64)) as usize;
+        let step = if extent > 0.0 {
+            extent / count as f64
+        } else {
+            1.0
+        };
+        let mut buckets = vec![Vec::new(); count];
+        for (i, r) in ranges.iter().enumerate() {
+            let first = Self::slot(lo, step, count, r.0);
+            let last = Self::slot(lo, step, count, r.1);
+            for b in &mut buckets[first..=last] {
+                b.push(i as u32);
+            }
+        }
+        ByHeight {
+            y0: lo,
+            step,
+            buckets,
+        }
+    }
+
+    fn slot(lo: f64, step: f64, count: usize, y: f64) -> usize {
+        let k = ((y - lo) / step).floor();
+        if k.is_nan() || k < 0.0 {
+            0
+        } else {
+            (k as usize).min(count - 1)
+        }
+    }
+
+    fn at(&self, y: f64) -> &[u32] {
+        &self.buckets[Self::slot(self.y0, self.step, self.buckets.len(), y)]
+    }
+}
+
+/// The interior of one feature's polygons, as seen on lines of the plane:
+/// the parity of a reference point (decided by the geodesic point in
+/// polygon test) and the edges that can cross the path from it.
+struct Interior {
+    edges: Vec<Seg>,
+    index: ByHeight,
+    /// x of the vertical line through the reference point.
+    x_ref: f64,
+    /// Heights, sorted, where edges cross the vertical line x = x_ref
+    /// above the reference point.
+    vertical: Vec<f64>,
+    inside_at_ref: bool,
+}
+
+/// `g` and the reaching features in `g`'s plane.
+struct Plane {
+    area: f64,
+    g_edges: Vec<Seg>,
+    g_index: ByHeight,
+    pieces: Vec<Piece>,
+    piece_index: ByHeight,
+    interiors: Vec<Interior>,
+    breaks: Vec<f64>,
+}
+
+/// Reused per line: crossings and intervals.
+#[derive(Default)]
+struct Scratch {
+    xs: Vec<f64>,
+    covered: Vec<(f64, f64)>,
+    inside: Vec<f64>,
+}
+
+impl Plane {
+    fn new(g: &Prepared, ball: &Ball, reaching: &[&Feature]) -> Plane {
+        let frame = AzimuthalFrame::new(ball.centre);
+        let mut g_edges = Vec::new();
+        let mut area = 0.0;
+        let (mut x_lo, mut x_hi) = (f64::INFINITY, f64::NEG_INFINITY);
+        let (mut y_lo, mut y_hi) = (f64::INFINITY, f64::NEG_INFINITY);
+        let mut breaks = Vec::new();
+        let mut kinks: Vec<(f64, f64)> = Vec::new();
+        for ring in g.polygons.iter().flatten() {
+            let pts: Vec<(f64, f64)> = ring.iter().map(|&p| frame.forward(p)).collect();
+            area += shoelace(&pts).abs();
+            for w in pts.windows(2) {
+                g_edges.push(Seg { a: w[0], b: w[1] });
+            }
+            for p in &pts {
+                x_lo = x_lo.min(p.0);
+                x_hi = x_hi.max(p.0);
+                y_lo = y_lo.min(p.1);
+                y_hi = y_hi.max(p.1);
+                breaks.push(p.1);
+            }
+        }
+        // Holes subtract: the even-odd sections below give the true area;
+        // `area` (the sum of ring areas) only scales the tolerance.
+        let g_ranges: Vec<(f64, f64)> = g_edges.iter().map(Seg::y_range).collect();
+        let g_index = ByHeight::new(&g_ranges, y_lo, y_hi);
+
+        // The reference point for interiors: just below and left of g.
+        let extent = (x_hi - x_lo).max(y_hi - y_lo);
+        let margin = 1.0 + 1e-6 * extent;
+        let reference = (x_lo - margin, y_lo - margin);
+        let rho = [x_lo - margin, x_hi]
+            .iter()
+            .flat_map(|&x| [y_lo - margin, y_hi].map(|y| f64::hypot(x, y)))
+            .fold(0.0, f64::max);
+
+        let mut pieces = Vec::new();
+        let mut interiors = Vec::new();
+        let bbox = g.bbox.expect("a geometry with a ball has a box");
+        for f in reaching {
+            feature_in_plane(
+                f,
+                &frame,
+                &bbox,
+                rho,
+                reference,
+                (x_hi, y_hi),
+                &mut pieces,
+                &mut interiors,
+                &mut kinks,
+            );
+        }
+        let piece_ranges: Vec<(f64, f64)> = pieces.iter().map(Piece::y_range).collect();
+        let piece_index = ByHeight::new(&piece_ranges, y_lo, y_hi);
+        for p in &pieces {
+            p.break_points(&mut kinks);
+        }
+        // A kink of one piece's section matters only where it can change
+        // the covered length: inside g and not strictly inside another
+        // piece (there, nearby sections lie within that piece too).
+        let margin = 1e-9 * extent + 1e-6;
+        let mut scratch = Vec::new();
+        breaks.extend(
+            kinks
+                .into_iter()
+                .filter(|&(_, y)| y > y_lo && y < y_hi)
+                .filter(|&p| near_polygon(&g_edges, &g_index, p, margin, &mut scratch))
+                .filter(|&p| {
+                    !piece_index
+                        .at(p.1)
+                        .iter()
+                        .any(|&i| pieces[i as usize].holds_strictly(p, margin))
+                })
+                .map(|p| p.1),
+        );
+        breaks.retain(|&y| y > y_lo && y < y_hi);
+        breaks.push(y_lo);
+        breaks.push(y_hi);
+        breaks.sort_by(f64::total_cmp);
+        let min_gap = 1e-9 * extent.max(1e-9);
+        breaks.dedup_by(|b, a| *b - *a <= min_gap);
+        if let Some(last) = breaks.last_mut() {
+            *last = y_hi;
+        }
+        Plane {
+            area,
+            g_edges,
+            g_index,
+            pieces,
+            piece_index,
+            interiors,
+            breaks,
+        }
+    }
+
+    /// The length of `g` on the line y = c and the part of it within reach.
+    fn line(&self, c: f64, s: &mut Scratch) -> (f64, f64) {
+        s.xs.clear();
+        for &i in self.g_index.at(c) {
+            if let Some(x) = self.g_edges[i as usize].crossing(c) {
+                s.xs.push(x);
+            }
+        }
+        if s.xs.len() < 2 {
+            return (0.0, 0.0);
+        }
+        s.xs.sort_by(f64::total_cmp);
+        let total: f64 = s.xs.chunks_exact(2).map(|p| p[1] - p[0]).sum();
+        if total <= 0.0 {
+            return (0.0, 0.0);
+        }
+        let (lo, hi) = (s.xs[0], s.xs[s.xs.len() - 1]);
+        s.covered.clear();
+        // Returns true when the interval covers all of g on this line.
+        let add = |iv: (f64, f64), covered: &mut Vec<(f64, f64)>| -> bool {
+            if iv.1 <= lo || iv.0 >= hi {
+                return false;
+            }
+            if iv.0 <= lo && iv.1 >= hi {
+                return true;
+            }
+            covered.push(iv);
+            false
+        };
+        for &i in self.piece_index.at(c) {
+            let p = &self.pieces[i as usize];
+            if let Some(iv) = p.section(c) {
+                if add(iv, &mut s.covered) {
+                    return (total, total);
+                }
+            }
+        }
+        for interior in &self.interiors {
+            s.inside.clear();
+            for &i in interior.index.at(c) {
+                if let Some(x) = interior.edges[i as usize].crossing(c) {
+                    if x > interior.x_ref {
+                        s.inside.push(x);
+                    }
+                }
+            }
+            s.inside.sort_by(f64::total_cmp);
+            let below = interior.vertical.partition_point(|&v| v < c);
+            let mut inside = interior.inside_at_ref ^ (below % 2 == 1);
+            let mut from = interior.x_ref;
+            for &x in &s.inside {
+                if inside && add((from, x), &mut s.covered) {
+                    return (total, total);
+                }
+                inside = !inside;
+                from = x;
+            }
+            if inside && add((from, f64::INFINITY), &mut s.covered) {
+                return (total, total);
+            }
+        }
+        if s.covered.is_empty() {
+            return (total, 0.0);
+        }
+        s.covered.sort_by(|a, b| a.0.total_cmp(&b.0));
+        // Merge, then measure the overlap with g's intervals.
+        let mut merged: Vec<(f64, f64)> = Vec::with_capacity(s.covered.len());
+        for &iv in &s.covered {
+            match merged.last_mut() {
+                Some(last) if iv.0 <= last.1 => last.1 = last.1.max(iv.1),
+                _ => merged.push(iv),
+            }
+        }
+        let mut covered = 0.0;
+        let mut k = 0;
+        for gi in s.xs.chunks_exact(2) {
+            let (a, b) = (gi[0], gi[1]);
+            while k < merged.len() && merged[k].1 <= a {
+                k += 1;
+            }
+            let mut j = k;
+            while j < merged.len() && merged[j].0 < b {
+                covered += merged[j].1.min(b) - merged[j].0.max(a);
+                j += 1;
+            }
+        }
+        (total, covered.min(total))
+    }
+
+    /// Gauss–Kronrod 7/15 on [a, b]: (total length integral, covered
+    /// integral, error estimate of the covered integral, all lines fully
+    /// covered, no line covered at all).
+    fn piece(&self, a: f64, b: f64, s: &mut Scratch) -> Piece15 {
+        let half = (b - a) / 2.0;
+        let mid = a + half;
+        let mut out = Piece15 {
+            a,
+            b,
+            total: 0.0,
+            covered: 0.0,
+            error: 0.0,
+            all_covered: true,
+            none_covered: true,
+        };
+        let mut gauss = 0.0;
+        for (k, (&x, &wk)) in KRONROD_NODES.iter().zip(&KRONROD_WEIGHTS).enumerate() {
+            let ys: &[f64] = if x == 0.0 {
+                &[mid]
+            } else {
+                &[mid - half * x, mid + half * x]
+            };
+            for &y in ys {
+                let (t, c) = self.line(y, s);
+                out.total += wk * t;
+                out.covered += wk * c;
+                if k % 2 == 1 {
+                    gauss += GAUSS_WEIGHTS[k / 2] * c;
+                }
+                out.all_covered &= c == t;
+                out.none_covered &= c == 0.0;
+            }
+        }
+        out.total *= half;
+        out.covered *= half;
+        out.error = (out.covered - gauss * half).abs();
+        out
+    }
+
+    fn integrate(&self) -> Result<f64, ShareError> {
+        let mut s = Scratch::default();
+        let mut heap: BinaryHeap<Piece15> = self
+            .breaks
+            .windows(2)
+            .filter(|w| w[1] > w[0])
+            .map(|w| self.piece(w[0], w[1], &mut s))
+            .collect();
+        let tolerance = TOLERANCE * self.area;
+        let limit = heap.len() + MAX_PIECES;
+        let mut error: f64 = heap.iter().map(|p| p.error).sum();
+        while error > tolerance && heap.len() < limit {
+            let Some(worst) = heap.pop() else { break };
+            let mid = worst.a + (worst.b - worst.a) / 2.0;
+            if !(mid > worst.a && mid < worst.b) {
+                // Cannot be split further in f64: keep it as it is.
+                error -= worst.error;
+                heap.push(Piece15 {
+                    error: 0.0,
+                    ..worst
+                });
+                continue;
+            }
+            let left = self.piece(worst.a, mid, &mut s);
+            let right = self.piece(mid, worst.b, &mut s);
+            error += left.error + right.error - worst.error;
+            heap.push(left);
+            heap.push(right);
+        }
+        // Recompute the sum: the running total drifts by rounding.
+        let error: f64 = heap.iter().map(|p| p.error).sum();
+        if error > GIVE_UP * self.area {
+            return Err(ShareError::NotConverged {
+                estimate: error / self.area,
+            });
+        }
+        let (mut total, mut covered) = (0.0, 0.0);
+        let (mut all, mut none) = (true, true);
+        for p in heap.iter() {
+            total += p.total;
+            covered += p.covered;
+            all &= p.all_covered;
+            none &= p.none_covered;
+        }
+        Ok(if none || total <= 0.0 {
+            0.0
+        } else if all {
+            1.0
+        } else {
+            (covered / total).clamp(0.0, 1.0)
+        })
+    }
+}
+
+/// Adds feature `f`'s pieces and interior to the plane: only elements whose
+/// boxes meet `g`'s box grown by the reach (for pieces) or by `rho` (for
+/// the interior's crossings, which must include every edge crossing the
+/// rectangle from `reference` to `top_right`).
+#[allow(clippy::too_many_arguments)]
+fn feature_in_plane(
+    f: &Feature,
+    frame: &AzimuthalFrame,
+    g_box: &LonLatBox,
+    rho: f64,
+    reference: (f64, f64),
+    top_right: (f64, f64),
+    pieces: &mut Vec<Piece>,
+    interiors: &mut Vec<Interior>,
+    breaks: &mut Vec<(f64, f64)>,
+) {
+    let geometry = &f.geometry;
+    let has_interior = !geometry.polygons.is_empty();
+    // The reference point may move up to REFERENCE_SHIFT metres (below).
+    let grow = if has_interior {
+        f.reach.max(rho + REFERENCE_SHIFT)
+    } else {
+        f.reach
+    };
+    let mut near = geometry.elements_near(&g_box.grown(grow));
+    near.sort_unstable();
+    let mut ring_edges = Vec::new();
+    let mut last: Option<((f64, f64), (f64, f64))> = None;
+    let mut project = |p: (f64, f64)| -> (f64, f64) {
+        match last {
+            Some((q, xy)) if q == p => xy,
+            _ => {
+                let xy = frame.forward(p);
+                last = Some((p, xy));
+                xy
+            }
+        }
+    };
+    for k in near {
+        match geometry.elements[k].0 {
+            Element::Point(p) => {
+                if f.reach > 0.0 {
+                    pieces.push(Piece::disc(project(p), f.reach));
+                }
+            }
+            Element::Edge(a, b) => {
+                let (pa, pb) = (project(a), project(b));
+                breaks.extend([pa, pb]);
+                if f.reach > 0.0 {
+                    pieces.push(Piece::capsule(pa, pb, f.reach));
+                }
+                if geometry.owners[k].is_some() {
+                    ring_edges.push(Seg { a: pa, b: pb });
+                }
+            }
+        }
+    }
+    if !has_interior {
+        return;
+    }
+    // Move the reference point off any edge it lies too close to for the
+    // plane and the geodesic test to agree.
+    let mut reference = reference;
+    let clearance = 1e-3;
+    for attempt in 0..8 {
+        if ring_edges
+            .iter()
+            .all(|e| planar_point_segment(reference, e) > clearance)
+        {
+            break;
+        }
+        let shift = 0.7 * (attempt + 1) as f64;
+        reference = (reference.0 - shift, reference.1 - 0.37 * shift);
+    }
+    let inside_at_ref = point_in_prepared(frame.reverse(reference), geometry);
+    let mut vertical: Vec<f64> = ring_edges
+        .iter()
+        .filter_map(|e| {
+            let (a, b) = (e.a, e.b);
+            ((a.0 > reference.0) != (b.0 > reference.0))
+                .then(|| a.1 + (reference.0 - a.0) * (b.1 - a.1) / (b.0 - a.0))
+        })
+        .filter(|&y| y > reference.1 && y <= top_right.1 + 1.0)
+        .collect();
+    vertical.sort_by(f64::total_cmp);
+    let ranges: Vec<(f64, f64)> = ring_edges.iter().map(Seg::y_range).collect();
+    let index = ByHeight::new(&ranges, reference.1, top_right.1);
+    interiors.push(Interior {
+        edges: ring_edges,
+        index,
+        x_ref: reference.0,
+        vertical,
+        inside_at_ref,
+    });
+}
+
+/// True when (x, y) lies in one of `g`'s intervals on the line through it,
+/// widened by `margin`.
+fn near_polygon(
+    edges: &[Seg],
+    index: &ByHeight,
+    (x, y): (f64, f64),
+    margin: f64,
+    xs: &mut Vec<f64>,
+) -> bool {
+    xs.clear();
+    xs.extend(
+        index
+            .at(y)
+            .iter()
+            .filter_map(|&i| edges[i as usize].crossing(y)),
+    );
+    xs.sort_by(f64::total_cmp);
+    xs.chunks_exact(2)
+        .any(|iv| iv[0] - margin <= x && x <= iv[1] + margin)
+}
+
+/// How far the reference point of an interior may be moved off edges,
+/// metres (the sum of the shifts tried).
+const REFERENCE_SHIFT: f64 = 30.0;
+
+/// Planar distance from `p` to the segment `e`.
+fn planar_point_segment(p: (f64, f64), e: &Seg) -> f64 {
+    let (dx, dy) = (e.b.0 - e.a.0, e.b.1 - e.a.1);
+    let len2 = dx * dx + dy * dy;
+    let t = if len2 > 0.0 {
+        (((p.0 - e.a.0) * dx + (p.1 - e.a.1) * dy) / len2).clamp(0.0, 1.0)
+    } else {
+        0.0
+    };
+    (p.0 - (e.a.0 + t * dx)).hypot(p.1 - (e.a.1 + t * dy))
+}
+
+/// One quadrature piece and its results.
+#[derive(Clone, Copy, Debug)]
+struct Piece15 {
+    a: f64,
+    b: f64,
+    total: f64,
+    covered: f64,
+    error: f64,
+    all_covered: bool,
+    none_covered: bool,
+}
+
+impl PartialEq for Piece15 {
+    fn eq(&self, other: &Self) -> bool {
+        self.error.total_cmp(&other.error) == Ordering::Equal
+    }
+}
+impl Eq for Piece15 {}
+impl PartialOrd for Piece15 {
+    fn partial_cmp(&self, other: &Self) -> Option<Ordering> {
+        Some(self.cmp(other))
+    }
+}
+impl Ord for Piece15 {
+    fn cmp(&self, other: &Self) -> Ordering {
+        self.error.total_cmp(&other.error)
+    }
+}
+
+/// Abscissae of the 15-point Kronrod rule on [-1, 1], largest first (the
+/// odd positions are the 7-point Gauss–Legendre nodes). QUADPACK, routine
+/// QK15 (Piessens, de Doncker-Kapenga, Überhuber, Kahaner, "QUADPACK",
+/// Springer 1983), from memory; checked by the tests below against the
+/// exact moments of x^k.
+// The tabulated digits are kept whole, as published.
+#[allow(clippy::excessive_precision)]
+const KRONROD_NODES: [f64; 8] = [
+    0.991_455_371_120_812_639_206_854_697_526_329,
+    0.949_107_912_342_758_524_526_189_684_047_851,
+    0.864_864_423_359_769_072_789_712_788_640_926,
+    0.741_531_185_599_394_439_863_864_773_280_788,
+    0.586_087_235_467_691_130_294_144_845_693_013,
+    0.405_845_151_377_397_166_906_606_412_076_961,
+    0.207_784_955_007_898_467_600_689_403_773_245,
+    0.0,
+];
+
+/// Weights of the 15-point Kronrod rule, for [`KRONROD_NODES`].
+// The tabulated digits are kept whole, as published.
+#[allow(clippy::excessive_precision)]
+const KRONROD_WEIGHTS: [f64; 8] = [
+    0.022_935_322_010_529_224_963_732_008_058_970,
+    0.063_092_092_629_978_553_290_700_663_189_204,
+    0.104_790_010_322_250_183_839_876_322_541_518,
+    0.140_653_259_715_525_918_745_189_590_510_238,
+    0.169_004_726_639_267_902_826_583_426_598_550,
+    0.190_350_578_064_785_409_913_256_402_421_014,
+    0.204_432_940_075_298_892_414_161_999_234_649,
+    0.209_482_141_084_727_828_012_999_174_891_714,
+];
+
+/// Weights of the 7-point Gauss–Legendre rule at KRONROD_NODES[1], [3],
+/// [5], [7].
+// The tabulated digits are kept whole, as published.
+#[allow(clippy::excessive_precision)]
+const GAUSS_WEIGHTS: [f64; 4] = [
+    0.129_484_966_168_869_693_270_611_432_679_082,
+    0.279_705_391_489_276_667_901_467_771_423_780,
+    0.381_830_050_505_118_944_950_369_775_488_975,
+    0.417_959_183_673_469_387_755_102_040_816_327,
+];
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Sum of w f(x) over the symmetric rule given by half its nodes.
+    fn rule(nodes: &[f64], weights: &[f64], f: impl Fn(f64) -> f64) -> f64 {
+        nodes
+            .iter()
+            .zip(weights)
+            .map(|(&x, &w)| {
+                if x == 0.0 {
+                    w * f(0.0)
+                } else {
+                    w * (f(x) + f(-x))
+                }
+            })
+            .sum()
+    }
+
+    /// The 15-point Kronrod rule integrates x^k exactly for k <= 22 and the
+    /// 7-point Gauss rule for k <= 13 (exact moments 2 / (k + 1) for even
+    /// k, 0 for odd k).
+    #[test]
+    fn the_rules_integrate_polynomials_exactly() {
+        let gauss_nodes = [
+            KRONROD_NODES[1],
+            KRONROD_NODES[3],
+            KRONROD_NODES[5],
+            KRONROD_NODES[7],
+        ];
+        for k in 0..=22 {
+            let exact = if k % 2 == 0 {
+                2.0 / (k + 1) as f64
+            } else {
+                0.0
+            };
+            let kr = rule(&KRONROD_NODES, &KRONROD_WEIGHTS, |x| x.powi(k));
+            assert!((kr - exact).abs() < 1e-15, "Kronrod x^{k}: {kr} vs {exact}");
+            if k <= 13 {
+                let g = rule(&gauss_nodes, &GAUSS_WEIGHTS, |x| x.powi(k));
+                assert!((g - exact).abs() < 1e-15, "Gauss x^{k}: {g} vs {exact}");
+            }
+        }
+        // And not beyond: x^24 is not exact for Kronrod, x^14 not for Gauss.
+        let kr = rule(&KRONROD_NODES, &KRONROD_WEIGHTS, |x| x.powi(24));
+        assert!((kr - 2.0 / 25.0).abs() > 1e-9);
+    }
+
+    #[test]
+    fn sections_of_discs_and_capsules() {
+        assert_eq!(disc_section((0.0, 0.0), 5.0, 3.0), Some((-4.0, 4.0)));
+        assert_eq!(disc_section((0.0, 0.0), 5.0, 5.0), None);
+        // A horizontal capsule from (0,0) to (10,0), radius 2.
+        let c = Piece::capsule((0.0, 0.0), (10.0, 0.0), 2.0);
+        assert_eq!(c.section(0.0), Some((-2.0, 12.0)));
+        let (lo, hi) = c.section(1.0).unwrap();
+        assert!((lo + 3f64.sqrt()).abs() < 1e-12 && (hi - 10.0 - 3f64.sqrt()).abs() < 1e-12);
+        assert_eq!(c.section(2.5), None);
+        // A vertical capsule: the rectangle gives the width between the ends.
+        let v = Piece::capsule((0.0, 0.0), (0.0, 10.0), 2.0);
+        let (lo, hi) = v.section(5.0).unwrap();
+        assert!((lo + 2.0).abs() < 1e-12 && (hi - 2.0).abs() < 1e-12);
+        let (lo, hi) = v.section(11.0).unwrap();
+        assert!((lo + 3f64.sqrt()).abs() < 1e-12 && (hi - 3f64.sqrt()).abs() < 1e-12);
+    }
+}
