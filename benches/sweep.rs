@@ -28,64 +28,12 @@
 //! - peak resident memory of each (target: ambit under 1 GB, flat as rows
 //!   grow).
 
-use std::path::{Path, PathBuf};
+mod support;
+
+use std::path::Path;
 use std::process::Command;
 
-fn root() -> PathBuf {
-    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
-}
-
-/// The library built for this bench run, as `.load` takes it.
-fn library() -> PathBuf {
-    let exe = std::env::current_exe().unwrap();
-    let lib = exe.parent().unwrap().join("libambit.so");
-    assert!(lib.exists(), "{} missing", lib.display());
-    lib.with_extension("")
-}
-
-/// Runs a command under /usr/bin/time -v; returns (stdout, stderr, peak RSS
-/// in MiB, wall seconds).
-fn timed(cmd: &mut Command) -> (String, String, f64, f64) {
-    let start = std::time::Instant::now();
-    let out = cmd.output().expect("command runs");
-    let wall = start.elapsed().as_secs_f64();
-    let stdout = String::from_utf8_lossy(&out.stdout).into_owned();
-    let stderr = String::from_utf8_lossy(&out.stderr).into_owned();
-    assert!(out.status.success(), "command failed:\n{stdout}\n{stderr}");
-    let rss_kib: f64 = stderr
-        .lines()
-        .find_map(|l| {
-            l.trim()
-                .strip_prefix("Maximum resident set size (kbytes): ")
-        })
-        .and_then(|v| v.trim().parse().ok())
-        .unwrap_or(f64::NAN);
-    (stdout, stderr, rss_kib / 1024.0, wall)
-}
-
-/// Runs SQL in the stock shell with ambit loaded, under /usr/bin/time.
-fn shell(db: &Path, env: &[(&str, &str)], sql: &str) -> (String, f64, f64) {
-    let script = db.with_extension(format!("{}.sql", std::process::id()));
-    std::fs::write(&script, format!(".load {}\n{sql}\n", library().display())).unwrap();
-    let mut cmd = Command::new("/usr/bin/time");
-    cmd.arg("-v")
-        .arg("/usr/bin/sqlite3")
-        .arg("-bail")
-        .arg(db)
-        .arg(format!(".read {}", script.display()))
-        .envs(env.iter().copied());
-    let (stdout, _, rss, wall) = timed(&mut cmd);
-    std::fs::remove_file(&script).ok();
-    (stdout, rss, wall)
-}
-
-/// The seconds of each statement timed by `.timer on`.
-fn times(out: &str) -> Vec<f64> {
-    out.lines()
-        .filter_map(|l| l.strip_prefix("Run Time: real "))
-        .map(|l| l.split_whitespace().next().unwrap().parse().unwrap())
-        .collect()
-}
+use support::{library, root, shell, timed, times};
 
 const LAYER: &str = "
 SELECT ambit_layer_drop('urban');
@@ -158,7 +106,7 @@ fn run(blocks: usize, dir: &Path) {
     // county table.
     let e2e = format!(
         ".timer on\n{BUILD}\
-         CREATE TABLE sweep AS SELECT * FROM ambit_sweep('access', 'SELECT fid, geom FROM blocks');\n{COUNTY}"
+         CREATE TABLE sweep AS SELECT id, reached, nearest_m FROM ambit_sweep('access', 'SELECT fid, geom FROM blocks');\n{COUNTY}"
     );
     let (out, ambit_rss, ambit_wall) = shell(&db, &[("RAYON_NUM_THREADS", "2")], &e2e);
     let t = times(&out);
@@ -167,7 +115,7 @@ fn run(blocks: usize, dir: &Path) {
     let (out1, _, _) = shell(
         &db,
         &[("RAYON_NUM_THREADS", "1")],
-        &format!("{BUILD}\n.timer on\nSELECT count(*) FROM ambit_sweep('access', 'SELECT fid, geom FROM blocks');"),
+        &format!("{BUILD}\n.timer on\nSELECT count(*), sum(reached), sum(nearest_m) FROM ambit_sweep('access', 'SELECT fid, geom FROM blocks');"),
     );
     let sweep1 = times(&out1)[0];
     let (outs, _, _) = shell(

@@ -89,6 +89,69 @@ fn the_sweep_equals_the_scalar_functions_and_does_not_depend_on_threads_or_chunk
     assert_eq!(out.lines().skip(1).collect::<Vec<_>>(), lines[2..].to_vec());
 }
 
+/// The sweep computes only the columns a statement names; each column,
+/// asked alone or with others, equals its scalar function (share included,
+/// NULL for points, which have no area).
+#[test]
+fn the_sweep_computes_the_columns_asked_and_each_equals_its_scalar() {
+    let points = "INSERT INTO blocks VALUES ('990010000009999', ST_Point(-131.2, 38.3));";
+    let scalar = run(
+        &[],
+        &format!(
+            "{points}{BUILD}SELECT geoid, ambit_reached('access', geom), round(ambit_nearest('access', geom), 6),
+               CASE WHEN ST_GeometryType(geom) = 'POINT' THEN 'null'
+                    ELSE iif(ambit_share('access', geom) IS NULL, 'null', printf('%.12f', ambit_share('access', geom))) END
+             FROM blocks;"
+        ),
+    );
+    let column = |k: usize| -> Vec<String> {
+        scalar
+            .lines()
+            .skip(2)
+            .map(|l| {
+                let c: Vec<&str> = l.split('|').collect();
+                format!("{}|{}", c[0], c[k])
+            })
+            .collect()
+    };
+    for (k, expr) in [
+        (1, "reached"),
+        (2, "round(nearest_m, 6)"),
+        (3, "iif(share IS NULL, 'null', printf('%.12f', share))"),
+    ] {
+        let out = run(
+            &[("RAYON_NUM_THREADS", "2")],
+            &format!("{points}{BUILD}SELECT id, {expr} FROM ambit_sweep('access', 'SELECT geoid, geom FROM blocks');"),
+        );
+        let got: Vec<String> = out.lines().skip(2).map(str::to_string).collect();
+        let want = column(k);
+        assert_eq!(got.len(), want.len(), "{expr}");
+        let differ: Vec<_> = got
+            .iter()
+            .zip(&want)
+            .filter(|(g, w)| g != w)
+            .take(3)
+            .collect();
+        assert!(differ.is_empty(), "{expr}: {differ:?}");
+    }
+    let all = run(
+        &[],
+        &format!("{points}{BUILD}SELECT id, reached, round(nearest_m, 6), iif(share IS NULL, 'null', printf('%.12f', share)) FROM ambit_sweep('access', 'SELECT geoid, geom FROM blocks');"),
+    );
+    assert!(
+        all == scalar,
+        "all columns at once differ from the scalar functions"
+    );
+    // Shares lie in [0, 1], with blocks wholly in and wholly out of reach.
+    let shares: Vec<f64> = column(3)
+        .iter()
+        .filter_map(|l| l.split('|').nth(1).and_then(|v| v.parse().ok()))
+        .collect();
+    assert!(shares.iter().all(|s| (0.0..=1.0).contains(s)));
+    assert!(shares.iter().any(|&s| s == 0.0) && shares.iter().any(|&s| s == 1.0));
+    assert!(shares.iter().filter(|&&s| s > 0.0 && s < 1.0).count() > 100);
+}
+
 #[test]
 fn counts_and_near_rows_agree_with_each_other() {
     let out = run(

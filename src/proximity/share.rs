@@ -14,9 +14,9 @@
 //! covered length of `g` on the line is exact. The covered area is the
 //! integral of that length over y, by adaptive Gauss–Kronrod quadrature
 //! (the 7- and 15-point pair of Kronrod (1965) as tabulated in QUADPACK,
-//! Piessens et al. 1983), with every vertex height of `g`, the top and
-//! bottom of every disc and the corners of every capsule's rectangle as
-//! fixed break points, and bisection of the pieces with the largest error
+//! Piessens et al. 1983), with every vertex height of `g` and the top and
+//! bottom of every disc that can bound the covered part as fixed break
+//! points, and bisection of the pieces with the largest error
 //! estimate until the estimates sum to at most 1e-8 of `g`'s area. No
 //! buffer polygon is ever approximated by vertices.
 //!

@@ -54,6 +54,10 @@ pub const FUNCTIONS: &[SqlFunction] = &[
     },
 ];
 
+/// Why ambit_share refuses points and lines.
+pub const SHARE_NEEDS_AREAS: &str =
+    "a share is a part of an area; for points and lines ask ambit_reached";
+
 /// The parameters of the aggregate ambit_layer.
 pub const LAYER_PARAMS: &[&str] = &["name", "geom", "reach_m", "feature_id"];
 const LAYER: &str = "ambit_layer";
@@ -119,7 +123,7 @@ fn share(args: &Args) -> SqlResult {
     };
     decoded
         .geometry
-        .require_polygonal("a share is a part of an area; for points and lines ask ambit_reached")
+        .require_polygonal(SHARE_NEEDS_AREAS)
         .map_err(|e| args.fail_arg(1, e.to_string()))?;
     let g = Prepared::new(&decoded.geometry);
     match layer.share(&g) {

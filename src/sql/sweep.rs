@@ -2,18 +2,23 @@
 //! id of any type, its second a geometry) against a layer, on all cores.
 //!
 //! ```text
-//! SELECT id, reached, nearest_m
+//! SELECT id, reached, nearest_m, share
 //! FROM ambit_sweep('parks', 'SELECT geoid, geom FROM blocks');
 //! ```
+//!
+//! Only the columns the statement uses are computed (SQLite tells the
+//! table which, in its plan): `reached` alone is the cheapest, `share`
+//! the dearest (select the columns you need; `SELECT *` computes all).
+//! `share` is NULL for points and lines, which have no area.
 //!
 //! The query runs on the same connection. Its rows are read in chunks of
 //! [`chunk_rows`] rows (copying each chunk's blobs), each chunk is
 //! evaluated in parallel with rayon (RAYON_NUM_THREADS honoured), and rows
 //! come back in input order, so the output never depends on the thread
 //! count or chunk size; memory stays bounded by one chunk whatever the
-//! number of rows. `reached` and `nearest_m` equal ambit_reached and
-//! ambit_nearest on the same row (NULL geometry: both NULL; empty: 0 and
-//! NULL). An interrupt (sqlite3_interrupt, Ctrl-C in the shell) stops the
+//! number of rows. `reached`, `nearest_m` and `share` equal ambit_reached,
+//! ambit_nearest and ambit_share on the same row (NULL geometry: all NULL;
+//! empty: 0, NULL and NULL). An interrupt (sqlite3_interrupt, Ctrl-C in the shell) stops the
 //! next read of the query, at most one chunk later. Progress (rows done,
 //! rows per second, time left) goes to stderr when stderr is a terminal or
 //! AMBIT_PROGRESS=1 (AMBIT_PROGRESS=0 silences it).
@@ -41,7 +46,7 @@ use rusqlite::vtab::{Context, Filters, IndexInfo, VTab, VTabConnection, VTabCurs
 use crate::blob;
 use crate::proximity::{Layer, Prepared};
 use crate::sql::state::ConnState;
-use crate::sql::tables::{argument_plan, arguments, table_error};
+use crate::sql::tables::{argument_plan_with, arguments, table_error};
 use crate::sql::{guard, Args};
 
 const SWEEP: &str = "ambit_sweep";
@@ -176,20 +181,62 @@ struct Row {
     id: Value,
     reached: Value,
     nearest: Value,
+    share: Value,
 }
 
-/// Evaluates one row against the layer.
-fn evaluate(layer: &Layer, id: Value, geom: Value) -> Result<Row, String> {
-    let (reached, nearest) = match &geom {
-        Value::Null => (Value::Null, Value::Null),
+/// The result columns, as numbered in the table's schema.
+const COL_REACHED: u32 = 1;
+const COL_NEAREST: u32 = 2;
+const COL_SHARE: u32 = 3;
+/// The first hidden (argument) column.
+const FIRST_ARG: c_int = 4;
+/// Where the plan number keeps the mask of result columns used.
+const USED_SHIFT: u32 = 16;
+
+/// Which result columns a statement uses.
+#[derive(Clone, Copy, Debug)]
+struct Wanted(u32);
+
+impl Wanted {
+    /// From SQLite's column-used mask (bit 63 stands for columns 63 and up).
+    fn from_col_used(mask: u64) -> Wanted {
+        Wanted((mask & 0b1110) as u32)
+    }
+
+    fn has(self, col: u32) -> bool {
+        self.0 & (1 << col) != 0
+    }
+}
+
+/// Evaluates one row against the layer, computing only what is wanted.
+fn evaluate(layer: &Layer, id: Value, geom: Value, wanted: Wanted) -> Result<Row, String> {
+    let (reached, nearest, share) = match &geom {
+        Value::Null => (Value::Null, Value::Null, Value::Null),
         Value::Blob(bytes) => {
-            let decoded =
-                blob::decode_valid(bytes).map_err(|e| format!("row with id {}: {e}", show(&id)))?;
+            let fail = |e: &dyn std::fmt::Display| format!("row with id {}: {e}", show(&id));
+            let decoded = blob::decode_valid(bytes).map_err(|e| fail(&e))?;
             let g = Prepared::new(&decoded.geometry);
-            let (reached, nearest) = layer.reached_and_nearest(&g);
+            let (reached, nearest) = match (wanted.has(COL_REACHED), wanted.has(COL_NEAREST)) {
+                (true, true) => {
+                    let (r, n) = layer.reached_and_nearest(&g);
+                    (Some(r), n)
+                }
+                (true, false) => (Some(layer.reached(&g)), None),
+                (false, true) => (None, layer.nearest(&g, None)),
+                (false, false) => (None, None),
+            };
+            // Points and lines have no area: their share is NULL here
+            // (ambit_share refuses them), so that SELECT * works on any
+            // geometry.
+            let share = if wanted.has(COL_SHARE) && decoded.geometry.require_polygonal("").is_ok() {
+                layer.share(&g).map_err(|e| fail(&e))?
+            } else {
+                None
+            };
             (
-                Value::Integer(reached.into()),
+                reached.map_or(Value::Null, |r| Value::Integer(r.into())),
                 nearest.map_or(Value::Null, Value::Real),
+                share.map_or(Value::Null, Value::Real),
             )
         }
         other => {
@@ -204,6 +251,7 @@ fn evaluate(layer: &Layer, id: Value, geom: Value) -> Result<Row, String> {
         id,
         reached,
         nearest,
+        share,
     })
 }
 
@@ -294,7 +342,7 @@ unsafe impl<'vtab> VTab<'vtab> for SweepTable {
         let handle = unsafe { DbHandle::new(db.handle()) };
         Ok((
             Cow::Borrowed(
-                c"CREATE TABLE x(id, reached INTEGER, nearest_m REAL, layer HIDDEN, query HIDDEN)",
+                c"CREATE TABLE x(id, reached INTEGER, nearest_m REAL, share REAL, layer HIDDEN, query HIDDEN)",
             ),
             SweepTable {
                 base: ffi::sqlite3_vtab::default(),
@@ -305,7 +353,8 @@ unsafe impl<'vtab> VTab<'vtab> for SweepTable {
     }
 
     fn best_index(&self, info: &mut IndexInfo) -> rusqlite::Result<bool> {
-        argument_plan(info, 3, 2, 2)
+        let used = Wanted::from_col_used(info.col_used());
+        argument_plan_with(info, FIRST_ARG, 2, 2, (used.0 << USED_SHIFT) as c_int)
     }
 
     fn open(&'vtab mut self) -> rusqlite::Result<SweepCursor<'vtab>> {
@@ -323,6 +372,7 @@ unsafe impl<'vtab> VTab<'vtab> for SweepTable {
 /// A running sweep.
 struct Run {
     layer: Arc<Layer>,
+    wanted: Wanted,
     query: RawQuery,
     finished: bool,
     progress: Option<Progress>,
@@ -339,7 +389,7 @@ pub struct SweepCursor<'vtab> {
 }
 
 impl SweepCursor<'_> {
-    fn start(&mut self, args: &Args) -> rusqlite::Result<()> {
+    fn start(&mut self, args: &Args, wanted: Wanted) -> rusqlite::Result<()> {
         let name = args
             .text(0)?
             .ok_or_else(|| args.fail_arg(0, "must not be NULL"))?;
@@ -373,6 +423,7 @@ impl SweepCursor<'_> {
         });
         self.run = Some(Run {
             layer,
+            wanted,
             query,
             finished: false,
             progress,
@@ -403,10 +454,11 @@ impl SweepCursor<'_> {
             }
         }
         let layer = Arc::clone(&run.layer);
+        let wanted = run.wanted;
         let n = input.len() as u64;
         let rows: Result<Vec<Row>, String> = input
             .into_par_iter()
-            .map(|(id, geom)| evaluate(&layer, id, geom))
+            .map(|(id, geom)| evaluate(&layer, id, geom, wanted))
             .collect();
         self.rows = rows.map_err(|e| table_error(SWEEP, e))?;
         if let Some(p) = run.progress.as_mut() {
@@ -432,8 +484,9 @@ unsafe impl VTabCursor for SweepCursor<'_> {
         }
         let state = Arc::clone(&self.table.state);
         let args = Args::new(SWEEP, SWEEP_PARAMS, arguments(idx, values, 2), &state);
+        let wanted = Wanted((idx as u32) >> USED_SHIFT);
         self.run = None;
-        guard(SWEEP, || self.start(&args))
+        guard(SWEEP, || self.start(&args, wanted))
     }
 
     fn next(&mut self) -> rusqlite::Result<()> {
@@ -454,6 +507,7 @@ unsafe impl VTabCursor for SweepCursor<'_> {
             0 => ctx.set_result(&row.id),
             1 => ctx.set_result(&row.reached),
             2 => ctx.set_result(&row.nearest),
+            3 => ctx.set_result(&row.share),
             _ => ctx.set_result(&Value::Null),
         }
     }

@@ -66,6 +66,18 @@ pub fn argument_plan(
     args: usize,
     required: usize,
 ) -> rusqlite::Result<bool> {
+    argument_plan_with(info, first_arg, args, required, 0)
+}
+
+/// [`argument_plan`], with `extra` bits (above bit 15, for the table's own
+/// use) added to the plan number.
+pub fn argument_plan_with(
+    info: &mut IndexInfo,
+    first_arg: c_int,
+    args: usize,
+    required: usize,
+    extra: c_int,
+) -> rusqlite::Result<bool> {
     let mut slot: Vec<Option<usize>> = vec![None; args];
     let mut unusable = vec![false; args];
     for (i, c) in info.constraints().enumerate() {
@@ -94,7 +106,7 @@ pub fn argument_plan(
             usage.set_omit(true);
         }
     }
-    info.set_idx_num(idx_num);
+    info.set_idx_num(idx_num | extra);
     info.set_estimated_cost(if (0..required).all(|k| slot[k].is_some()) {
         10.0
     } else {
