@@ -148,7 +148,7 @@ fn the_sweep_computes_the_columns_asked_and_each_equals_its_scalar() {
         .filter_map(|l| l.split('|').nth(1).and_then(|v| v.parse().ok()))
         .collect();
     assert!(shares.iter().all(|s| (0.0..=1.0).contains(s)));
-    assert!(shares.iter().any(|&s| s == 0.0) && shares.iter().any(|&s| s == 1.0));
+    assert!(shares.contains(&0.0) && shares.contains(&1.0));
     assert!(shares.iter().filter(|&&s| s > 0.0 && s < 1.0).count() > 100);
 }
 
