@@ -2,28 +2,51 @@
 //! `demo-db/build-region`: the generator is deterministic, its blocks tile
 //! the land exactly (same vertices on both sides of every shared edge,
 //! areas that add up to the counties'), its GEOIDs follow the census-style
-//! layout, and the GeoPackage it builds in the stock shell carries the
-//! tables and metadata OGC 12-128 asks for.
+//! layout, the amenity tables (groceries, clinics, hazard_sites,
+//! libraries) are plausible and lie on land inside the counties, and the
+//! GeoPackage it builds in the stock shell carries the tables and metadata
+//! OGC 12-128 asks for.
 
 mod common;
 
 use ambit::blob::wkt;
 use ambit::geodesy::area::geometry_area;
 use ambit::geometry::validate::validate;
-use ambit::geometry::{Geometry, Shape};
+use ambit::geometry::{Dimensions, Geometry, Shape};
+use ambit::proximity::{distance, Prepared};
 use std::collections::{HashMap, HashSet};
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
 const GENERATOR: &str = env!("CARGO_BIN_EXE_ambit-region");
-const TABLES: [&str; 6] = [
+const TABLES: [&str; 10] = [
     "counties",
     "blocks",
     "parks",
     "rec_sites",
     "fitness_list",
     "urban_areas",
+    "groceries",
+    "clinics",
+    "hazard_sites",
+    "libraries",
 ];
+/// The committed demo database (demo-db/README.md).
+const DEMO: &str = "demo-db/demo-region.gpkg";
+const GROCERY_KINDS: [&str; 4] = [
+    "supermarket",
+    "supercenter",
+    "large grocery store",
+    "convenience store",
+];
+const HAZARD_KINDS: [&str; 5] = [
+    "chemical storage",
+    "fuel terminal",
+    "wastewater plant",
+    "landfill",
+    "rail yard",
+];
+const BRANCH_TYPES: [&str; 3] = ["central", "branch", "bookmobile stop"];
 
 /// A fresh folder under the system temp dir, removed when dropped.
 struct TempDir(PathBuf);
@@ -210,9 +233,11 @@ fn same_seed_same_bytes_other_seed_other_region() {
     let x = std::fs::read(a.0.join("blocks.csv")).unwrap();
     let z = std::fs::read(c.0.join("blocks.csv")).unwrap();
     assert!(x != z, "seeds 7 and 8 gave the same blocks");
-    let x = std::fs::read(a.0.join("parks.csv")).unwrap();
-    let z = std::fs::read(c.0.join("parks.csv")).unwrap();
-    assert!(x != z, "seeds 7 and 8 gave the same parks");
+    for t in ["parks", "groceries", "clinics", "hazard_sites", "libraries"] {
+        let x = std::fs::read(a.0.join(format!("{t}.csv"))).unwrap();
+        let z = std::fs::read(c.0.join(format!("{t}.csv"))).unwrap();
+        assert!(x != z, "seeds 7 and 8 gave the same {t}");
+    }
 }
 
 #[test]
@@ -421,6 +446,314 @@ fn features_are_plausible() {
     assert!((3..=4).contains(&names.len()), "urban areas {names:?}");
 }
 
+/// Whether a distance from ambit::proximity::distance is 0: the point lies
+/// inside (or on) the polygon.
+fn inside(area: &Prepared, g: &Prepared) -> bool {
+    distance(area, g) == Some(0.0)
+}
+
+fn prepared_point(x: f64, y: f64) -> Prepared {
+    Prepared::new(&Geometry::point(x, y))
+}
+
+/// The rings of a surface as one MULTILINESTRING: its boundary.
+fn boundary_of(g: &Geometry) -> Geometry {
+    Geometry::new(
+        Dimensions::Xy,
+        Shape::MultiLineString(rings(g).into_iter().cloned().collect()),
+    )
+}
+
+/// Values of a column are unique and all follow `prefix` + 5 digits.
+fn check_ids(rows: &[Vec<String>], column: usize, prefix: &str, table: &str) {
+    let mut seen = HashSet::new();
+    for (i, r) in rows.iter().enumerate() {
+        assert_eq!(r[0], (i + 1).to_string(), "{table}: fids count from 1");
+        let id = &r[column];
+        assert!(
+            id.len() == prefix.len() + 5
+                && id.starts_with(prefix)
+                && id[prefix.len()..].bytes().all(|c| c.is_ascii_digit()),
+            "{table}: id {id}"
+        );
+        assert!(seen.insert(id.clone()), "{table}: id {id} repeated");
+        assert!(!r[2].trim().is_empty(), "{table} {id} has no name");
+    }
+}
+
+#[test]
+fn amenity_tables_are_plausible_and_on_land() {
+    let dir = generate(3000, 9, "amenities");
+    let counties = table(&dir.0, "counties", &["fid", "geoid", "name", "wkt"]);
+    let blocks = table(
+        &dir.0,
+        "blocks",
+        &["fid", "geoid", "population", "water", "wkt"],
+    );
+    let groceries = table(
+        &dir.0,
+        "groceries",
+        &["fid", "store_id", "name", "kind", "wkt"],
+    );
+    let clinics = table(
+        &dir.0,
+        "clinics",
+        &["fid", "clinic_id", "name", "providers", "wkt"],
+    );
+    let hazards = table(
+        &dir.0,
+        "hazard_sites",
+        &["fid", "site_id", "name", "kind", "wkt"],
+    );
+    let libraries = table(
+        &dir.0,
+        "libraries",
+        &["fid", "library_id", "name", "branch_type", "wkt"],
+    );
+    let population: f64 = blocks.iter().map(|b| b[2].parse::<f64>().unwrap()).sum();
+
+    // Counts in ranges around the generator's rates (one store per
+    // 1,000-3,600 residents, one clinic per 10,000 plus county-line ones,
+    // hazard sites 0.15-0.6% of blocks, a central library per county and a
+    // branch per 40,000), wide enough for chance at this size.
+    let n = |rows: &[Vec<String>]| rows.len() as f64;
+    assert!(
+        (population / 5000.0..population / 1500.0).contains(&n(&groceries)),
+        "{} groceries for {population} residents",
+        groceries.len()
+    );
+    assert!(
+        (population / 25_000.0..population / 4000.0).contains(&n(&clinics)),
+        "{} clinics for {population} residents",
+        clinics.len()
+    );
+    assert!(
+        (3..=40).contains(&hazards.len()),
+        "{} hazard sites for {} blocks",
+        hazards.len(),
+        blocks.len()
+    );
+    assert!(
+        (7.0..6.0 + population / 15_000.0).contains(&n(&libraries)),
+        "{} libraries for {population} residents",
+        libraries.len()
+    );
+
+    // Ids unique, kinds from the documented lists.
+    check_ids(&groceries, 1, "GR", "groceries");
+    check_ids(&clinics, 1, "CL", "clinics");
+    check_ids(&hazards, 1, "HZ", "hazard_sites");
+    check_ids(&libraries, 1, "LB", "libraries");
+    for (rows, kinds, t) in [
+        (&groceries, &GROCERY_KINDS[..], "groceries"),
+        (&hazards, &HAZARD_KINDS[..], "hazard_sites"),
+        (&libraries, &BRANCH_TYPES[..], "libraries"),
+    ] {
+        for r in rows.iter() {
+            assert!(
+                kinds.contains(&r[3].as_str()),
+                "{t} {}: kind {}",
+                r[1],
+                r[3]
+            );
+        }
+    }
+    let of_kind = |k: &str| groceries.iter().filter(|g| g[3] == k).count();
+    for k in GROCERY_KINDS {
+        assert!(of_kind(k) > 0, "no {k}");
+    }
+    let convenience = of_kind("convenience store");
+    assert!(
+        convenience * 10 > groceries.len() && convenience * 2 < groceries.len(),
+        "{convenience} convenience stores of {}",
+        groceries.len()
+    );
+    // Providers: full-time equivalents 0.5 to 20, or empty (unknown).
+    for c in &clinics {
+        if c[3].is_empty() {
+            continue;
+        }
+        let v: f64 = c[3].parse().unwrap();
+        assert!((0.5..=20.0).contains(&v), "clinic {}: {v} providers", c[1]);
+    }
+    // One central library per county, named after it.
+    let central: Vec<&str> = libraries
+        .iter()
+        .filter(|l| l[3] == "central")
+        .map(|l| l[2].as_str())
+        .collect();
+    let expected: Vec<String> = counties
+        .iter()
+        .map(|c| format!("{} Central Library", c[2]))
+        .collect();
+    assert_eq!(central, expected);
+
+    // On land: every point inside exactly one county's polygon and in no
+    // lake (water block); every footprint valid, simple, counter-clockwise,
+    // with all vertices in one county and no edge meeting that county's
+    // boundary. Distances are ambit's exact geodesic ones (0 inside).
+    let county_geoms: Vec<Geometry> = counties
+        .iter()
+        .map(|c| wkt::parse(&c[3]).unwrap())
+        .collect();
+    let county_areas: Vec<Prepared> = county_geoms.iter().map(Prepared::new).collect();
+    let lakes: Vec<Prepared> = blocks
+        .iter()
+        .filter(|b| b[3] == "1")
+        .map(|b| Prepared::new(&wkt::parse(&b[4]).unwrap()))
+        .collect();
+    assert!(!lakes.is_empty(), "the region has lakes");
+    let county_of = |x: f64, y: f64, what: &str| -> usize {
+        let p = prepared_point(x, y);
+        let holding: Vec<usize> = (0..county_areas.len())
+            .filter(|&i| inside(&county_areas[i], &p))
+            .collect();
+        assert_eq!(
+            holding.len(),
+            1,
+            "{what} ({x} {y}) lies in counties {holding:?}"
+        );
+        for lake in &lakes {
+            assert!(!inside(lake, &p), "{what} ({x} {y}) lies in a lake");
+        }
+        holding[0]
+    };
+    let mut footprints = 0;
+    let mut near_line = 0;
+    for (rows, t) in [
+        (&groceries, "groceries"),
+        (&clinics, "clinics"),
+        (&hazards, "hazard_sites"),
+        (&libraries, "libraries"),
+    ] {
+        for r in rows.iter() {
+            let what = format!("{t} {}", r[1]);
+            let g = wkt::parse(&r[4]).unwrap();
+            validate(&g, 4326).unwrap_or_else(|e| panic!("{what}: {e}"));
+            match &g.shape {
+                Shape::Point(v) => {
+                    let c = county_of(v[0], v[1], &what);
+                    // A clinic within 3 km of another county serves both.
+                    if t == "clinics" {
+                        let p = prepared_point(v[0], v[1]);
+                        near_line += (0..county_areas.len()).any(|i| {
+                            i != c && distance(&county_areas[i], &p).is_some_and(|d| d <= 3000.0)
+                        }) as usize;
+                    }
+                }
+                Shape::Polygon(r) if t == "hazard_sites" => {
+                    assert_eq!(r.len(), 1, "{what} has holes");
+                    let ring = &r[0];
+                    assert!(ring_is_simple(ring), "{what} crosses itself");
+                    assert!(signed_area(ring) > 0.0, "{what} is clockwise");
+                    let homes: HashSet<usize> = ring
+                        .chunks_exact(2)
+                        .map(|v| county_of(v[0], v[1], &what))
+                        .collect();
+                    assert_eq!(homes.len(), 1, "{what} spans counties {homes:?}");
+                    let home = *homes.iter().next().unwrap();
+                    let edge = Prepared::new(&Geometry::new(
+                        Dimensions::Xy,
+                        Shape::LineString(ring.clone()),
+                    ));
+                    let line = Prepared::new(&boundary_of(&county_geoms[home]));
+                    assert!(
+                        distance(&edge, &line).is_some_and(|d| d > 0.0),
+                        "{what} meets its county's boundary"
+                    );
+                    footprints += 1;
+                }
+                other => panic!("{what}: unexpected geometry {other:?}"),
+            }
+        }
+    }
+    assert!(footprints >= 1, "no hazard footprint");
+    assert!(
+        footprints * 2 < hazards.len(),
+        "{footprints} of {} hazard sites are footprints: mostly points expected",
+        hazards.len()
+    );
+    assert!(
+        near_line >= 2,
+        "{near_line} clinics within 3 km of another county"
+    );
+}
+
+/// The committed demo database holds the amenity tables in the sizes
+/// demo-db/README.md describes (invented region of about 2.06 million
+/// residents).
+#[test]
+fn demo_database_amenities_have_the_documented_sizes() {
+    let db = Path::new(env!("CARGO_MANIFEST_DIR")).join(DEMO);
+    let q = |sql: &str| gpkg_query(&db, sql);
+    let num = |sql: &str| -> f64 { q(sql).parse().unwrap() };
+    let residents = num("SELECT sum(population) FROM blocks;");
+    let stores = num("SELECT count(*) FROM groceries;");
+    assert!(
+        (2500.0..=4500.0).contains(&(residents / stores)),
+        "{stores} stores for {residents} residents"
+    );
+    assert!(
+        (1.0..stores / 2.0).contains(&num(
+            "SELECT count(*) FROM groceries WHERE kind = 'convenience store';"
+        )),
+        "convenience stores"
+    );
+    let clinics = num("SELECT count(*) FROM clinics;");
+    assert!((150.0..=250.0).contains(&clinics), "{clinics} clinics");
+    let unknown = num("SELECT count(*) FROM clinics WHERE providers IS NULL;");
+    assert!(
+        unknown >= 1.0 && unknown * 10.0 < clinics,
+        "{unknown} clinics of unknown capacity"
+    );
+    assert_eq!(
+        q("SELECT count(*) FROM clinics WHERE providers IS NOT NULL            AND NOT (typeof(providers) = 'real' AND providers BETWEEN 0.5 AND 20);"),
+        "0",
+        "providers positive or NULL"
+    );
+    // Skewed: the median practice is smaller than the mean.
+    let mean = num("SELECT avg(providers) FROM clinics;");
+    let median = num(
+        "SELECT providers FROM clinics WHERE providers IS NOT NULL ORDER BY providers          LIMIT 1 OFFSET (SELECT count(providers) / 2 FROM clinics);",
+    );
+    assert!(median < mean, "median {median}, mean {mean}");
+    let hazards = num("SELECT count(*) FROM hazard_sites;");
+    assert!((60.0..=120.0).contains(&hazards), "{hazards} hazard sites");
+    let polygons =
+        num("SELECT count(*) FROM hazard_sites WHERE ST_GeometryType(geom) = 'POLYGON';");
+    assert!(
+        polygons >= 2.0 && polygons * 2.0 < hazards,
+        "{polygons} footprints of {hazards}"
+    );
+    assert_eq!(
+        q("SELECT count(*) FROM hazard_sites WHERE ST_GeometryType(geom) = 'POLYGON'            AND kind NOT IN ('landfill', 'rail yard');"),
+        "0"
+    );
+    let libraries = num("SELECT count(*) FROM libraries;");
+    assert!((50.0..=90.0).contains(&libraries), "{libraries} libraries");
+    assert_eq!(
+        q("SELECT group_concat(branch_type || ' ' || n, ', ') FROM            (SELECT branch_type, count(*) > 0 AS n FROM libraries GROUP BY 1 ORDER BY 1);"),
+        "bookmobile stop 1, branch 1, central 1"
+    );
+    assert_eq!(
+        q("SELECT count(*) FROM libraries WHERE branch_type = 'central';"),
+        "6"
+    );
+    // Every table's ids are unique.
+    for (t, id) in [
+        ("groceries", "store_id"),
+        ("clinics", "clinic_id"),
+        ("hazard_sites", "site_id"),
+        ("libraries", "library_id"),
+    ] {
+        assert_eq!(
+            q(&format!("SELECT count(DISTINCT {id}) = count(*) FROM {t};")),
+            "1",
+            "{t}.{id} unique"
+        );
+    }
+}
+
 /// Builds the GeoPackage with demo-db/build-region and this test run's
 /// library.
 fn build_gpkg(blocks: usize, seed: u64, out: &Path) {
@@ -479,8 +812,8 @@ fn build_region_makes_a_geopackage() {
             "SELECT group_concat(name, ' ') FROM (SELECT name FROM sqlite_master \
            WHERE type = 'table' ORDER BY name);"
         ),
-        "blocks counties fitness_list gpkg_contents gpkg_geometry_columns \
-         gpkg_spatial_ref_sys parks rec_sites urban_areas"
+        "blocks clinics counties fitness_list gpkg_contents gpkg_geometry_columns \
+         gpkg_spatial_ref_sys groceries hazard_sites libraries parks rec_sites urban_areas"
     );
 
     let types = [
@@ -490,6 +823,10 @@ fn build_region_makes_a_geopackage() {
         ("rec_sites", "POINT"),
         ("fitness_list", "POINT"),
         ("urban_areas", "MULTIPOLYGON"),
+        ("groceries", "POINT"),
+        ("clinics", "POINT"),
+        ("hazard_sites", "GEOMETRY"),
+        ("libraries", "POINT"),
     ];
     let csv = TempDir::new("gpkg-csv");
     let out = Command::new(GENERATOR)
@@ -540,8 +877,17 @@ fn build_region_makes_a_geopackage() {
             "extent of {t}"
         );
     }
-    assert_eq!(q("SELECT count(*) FROM gpkg_contents;"), "6");
-    assert_eq!(q("SELECT count(*) FROM gpkg_geometry_columns;"), "6");
+    assert_eq!(q("SELECT count(*) FROM gpkg_contents;"), "10");
+    assert_eq!(q("SELECT count(*) FROM gpkg_geometry_columns;"), "10");
+    // Providers are stored as REAL, unknown capacity as NULL.
+    assert_eq!(
+        q("SELECT count(*) FROM clinics WHERE NOT (providers IS NULL            OR (typeof(providers) = 'real' AND providers > 0));"),
+        "0"
+    );
+    assert_eq!(
+        q("SELECT count(*) FROM hazard_sites WHERE ST_GeometryType(geom) NOT IN ('POINT', 'POLYGON');"),
+        "0"
+    );
     assert_eq!(
         q("SELECT count(*) FROM blocks WHERE ST_SRID(geom) != 4326;"),
         "0"

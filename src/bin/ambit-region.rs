@@ -22,7 +22,28 @@
 //!   upper-case name, and about 1% never geocoded: NULL lon, lat and geom),
 //!   POINT; together about one facility per 100 blocks;
 //! - `urban_areas`: MULTIPOLYGON per urban core, exactly unions of blocks
-//!   (the urban blocks are those with 20-400 residents, or none).
+//!   (the urban blocks are those with 20-400 residents, or none);
+//! - `groceries`: food stores (store_id, name, kind: supermarket,
+//!   supercenter, large grocery store, or convenience store), POINT, about
+//!   one per 3,600 urban and one per 1,000 rural residents, placed in
+//!   blocks with a chance proportional to their population, so rural
+//!   stretches may have none;
+//! - `clinics`: primary-care clinics (clinic_id, name, providers: full-time
+//!   equivalent providers 0.5-20, skewed low, about 3% NULL for unknown),
+//!   POINT, one per 10,000 residents plus a few in blocks on county lines;
+//! - `hazard_sites`: pollution sources (site_id, name, kind: chemical
+//!   storage, fuel terminal, wastewater plant, landfill, rail yard), POINT,
+//!   or POLYGON footprints for most landfills and rail yards in large
+//!   enough blocks;
+//! - `libraries`: (library_id, name, branch_type: central, branch or
+//!   bookmobile stop), POINT: one central library per county (in its
+//!   densest block), branches by population, bookmobile stops in rural
+//!   blocks.
+//!
+//! Every point of the last four tables lies in the inner part of a land
+//! block (never a lake), and every footprint inside it, so all of them are
+//! on land within the counties. Their random choices use hash tags of
+//! their own: the other tables are the same with or without them.
 //!
 //! How the blocks are made: a grid of coarse (rural) cells over the box,
 //! each cell of land split as a quadtree where the density of the urban
@@ -332,6 +353,12 @@ const TAG_POP: u64 = 3;
 const TAG_PARK: u64 = 4;
 const TAG_SITE: u64 = 5;
 const TAG_SPECIAL: u64 = 6;
+// Tags of the amenity tables (added later; the tables above never use
+// them, so their rows do not depend on whether these tables are made).
+const TAG_GROCERY: u64 = 7;
+const TAG_CLINIC: u64 = 8;
+const TAG_HAZARD: u64 = 9;
+const TAG_LIBRARY: u64 = 10;
 
 /// Degrees rounded to 1e-7 (about 1 cm): short text, exact round trip.
 fn q7(v: f64) -> f64 {
@@ -420,6 +447,46 @@ const CATEGORIES: [(&str, &str); 8] = [
     ("pilates studio", "Pilates"),
     ("aquatic club", "Swim Club"),
 ];
+
+/// Food store kinds with the word the store's name ends with, and their
+/// shares in urban and in rural blocks. The first three are the kinds the
+/// food-access definitions count; convenience stores are listed too, as
+/// store lists do, so that analyses have to filter them out.
+const STORE_KINDS: [(&str, &str, f64, f64); 4] = [
+    ("supermarket", "Market", 0.42, 0.40),
+    ("supercenter", "Supercenter", 0.06, 0.08),
+    ("large grocery store", "Grocery", 0.20, 0.22),
+    ("convenience store", "Corner Store", 0.32, 0.30),
+];
+/// One food store per this many residents, in urban and in rural blocks
+/// (rural stores serve more people each).
+const URBAN_RESIDENTS_PER_STORE: f64 = 3600.0;
+const RURAL_RESIDENTS_PER_STORE: f64 = 1000.0;
+/// Clinic name endings.
+const CLINIC_ENDINGS: [&str; 4] = [
+    "Health Center",
+    "Family Clinic",
+    "Primary Care",
+    "Medical Group",
+];
+/// One primary-care clinic per this many residents; a block on a county
+/// line gets an extra chance of one, so that catchments cross counties.
+const RESIDENTS_PER_CLINIC: f64 = 10_000.0;
+const COUNTY_LINE_CLINIC: f64 = 0.03;
+/// Hazard site kinds, the word their names end with, their shares in
+/// rural and in urban blocks, and the chance that the site is drawn as its
+/// footprint (POLYGON) when the block is large enough.
+const HAZARD_KINDS: [(&str, &str, f64, f64, f64); 5] = [
+    ("chemical storage", "Chemical Storage", 0.20, 0.32, 0.0),
+    ("fuel terminal", "Fuel Terminal", 0.15, 0.28, 0.0),
+    ("wastewater plant", "Wastewater Plant", 0.15, 0.25, 0.0),
+    ("landfill", "Landfill", 0.30, 0.03, 0.75),
+    ("rail yard", "Rail Yard", 0.20, 0.12, 0.70),
+];
+/// One library branch per this many residents; a populated rural block
+/// is a bookmobile stop with this chance.
+const RESIDENTS_PER_BRANCH: f64 = 40_000.0;
+const BOOKMOBILE_STOP: f64 = 0.0015;
 
 // ----------------------------------------------------------------------
 // The block lattice
@@ -1024,6 +1091,19 @@ struct Stats {
     multi_parks: u64,
     duplicates: u64,
     no_coordinates: u64,
+    convenience: u64,
+    unknown_capacity: u64,
+    county_line_clinics: u64,
+    footprints: u64,
+}
+
+/// A library waiting to be written: the central libraries are known only
+/// when every block has been seen, and are written first.
+struct LibraryRow {
+    name: String,
+    branch_type: &'static str,
+    lon: f64,
+    lat: f64,
 }
 
 struct Generator<'a> {
@@ -1034,6 +1114,13 @@ struct Generator<'a> {
     parks: Csv,
     rec: Csv,
     fitness: Csv,
+    groceries: Csv,
+    clinics: Csv,
+    hazards: Csv,
+    libraries: Vec<LibraryRow>,
+    /// Per county, its densest land block (density at the block centre,
+    /// the block), where the central library goes.
+    densest: Vec<Option<(f64, Leaf)>>,
     county_sides: Vec<Vec<BoundarySide>>,
     urban_sides: Vec<Vec<BoundarySide>>,
     extents: HashMap<&'static str, Extent>,
@@ -1171,12 +1258,14 @@ impl Generator<'_> {
         let sides = g.block_sides(leaf);
         let core = g.urban_core(leaf);
         let mut ring: Vec<[f64; 2]> = Vec::with_capacity(4 * SIDE_SEGMENTS + 1);
+        let mut on_county_line = false;
         for &(p, q) in &sides {
             let v = g.side_vertices(p, q);
             let n = v.len() - 1;
             // Boundaries of the county and of the urban area.
             let (rx, ry) = Grid::right_of(p, q);
             let other = g.county_at(rx, ry);
+            on_county_line |= other != county && other != 0;
             if other != county {
                 self.county_sides[county as usize - 1].push(BoundarySide {
                     from: p,
@@ -1219,6 +1308,238 @@ impl Generator<'_> {
         ])?;
         if !water {
             self.spawn(leaf, core.is_some())?;
+            self.amenities(leaf, county, pop, core.is_some(), on_county_line)?;
+        }
+        Ok(())
+    }
+
+    /// A point in the inner part of a block (the middle 40% of its lattice
+    /// square, which its jittered, meandering boundary never reaches), as
+    /// quantized longitude and latitude.
+    fn inner_point(&self, r: &mut Rng, leaf: Leaf) -> (f64, f64) {
+        let s = leaf.size() as f64;
+        let (lon, lat) = self.g.lonlat(
+            leaf.x as f64 + s * r.range(0.3, 0.7),
+            leaf.y as f64 + s * r.range(0.3, 0.7),
+        );
+        (q7(lon), q7(lat))
+    }
+
+    /// Food stores, clinics, hazard sites and libraries placed in a land
+    /// block, each from a hash of its own tag and the block.
+    fn amenities(
+        &mut self,
+        leaf: Leaf,
+        county: u8,
+        pop: u32,
+        urban: bool,
+        on_county_line: bool,
+    ) -> std::io::Result<()> {
+        let key = (leaf.level as i64, leaf.x, leaf.y);
+        let (lon, lat) = self.g.leaf_center(leaf);
+        let d = density(lon, lat);
+        let best = &mut self.densest[county as usize - 1];
+        if best.is_none_or(|(b, _)| d > b) {
+            *best = Some((d, leaf));
+        }
+
+        let mut r = Rng(hash(self.seed, TAG_GROCERY, key.0, key.1, key.2));
+        let per_store = if urban {
+            URBAN_RESIDENTS_PER_STORE
+        } else {
+            RURAL_RESIDENTS_PER_STORE
+        };
+        if r.unit() < pop as f64 / per_store {
+            let mut u = r.unit();
+            let mut pick = STORE_KINDS[STORE_KINDS.len() - 1];
+            for k in STORE_KINDS {
+                let share = if urban { k.2 } else { k.3 };
+                if u < share {
+                    pick = k;
+                    break;
+                }
+                u -= share;
+            }
+            let (kind, ending, _, _) = pick;
+            let name = format!("{} {} {ending}", r.pick(&WORDS_A), r.pick(&WORDS_B));
+            let (x, y) = self.inner_point(&mut r, leaf);
+            let geom = Geometry::point(x, y);
+            self.extent("groceries", &geom);
+            self.stats.convenience += (kind == "convenience store") as u64;
+            let fid = self.groceries.rows + 1;
+            self.groceries.write(&[
+                &fid.to_string(),
+                &format!("GR{fid:05}"),
+                &name,
+                kind,
+                &wkt::write(&geom),
+            ])?;
+        }
+
+        let mut r = Rng(hash(self.seed, TAG_CLINIC, key.0, key.1, key.2));
+        let by_population = r.unit() < pop as f64 / RESIDENTS_PER_CLINIC;
+        let by_line = on_county_line && r.unit() < COUNTY_LINE_CLINIC;
+        if by_population || by_line {
+            let name = format!(
+                "{} {} {}",
+                r.pick(&WORDS_A),
+                r.pick(&WORDS_B),
+                r.pick(&CLINIC_ENDINGS)
+            );
+            // Full-time-equivalent providers: skewed towards small
+            // practices, larger in the cities; about 3% unknown.
+            let u = r.unit();
+            let providers = if r.unit() < 0.03 {
+                String::new()
+            } else if urban {
+                format!("{:.1}", 0.5 + 19.5 * u * u * u)
+            } else {
+                format!("{:.1}", 0.5 + 5.5 * u * u)
+            };
+            let (x, y) = self.inner_point(&mut r, leaf);
+            let geom = Geometry::point(x, y);
+            self.extent("clinics", &geom);
+            self.stats.unknown_capacity += providers.is_empty() as u64;
+            self.stats.county_line_clinics += (by_line && !by_population) as u64;
+            let fid = self.clinics.rows + 1;
+            self.clinics.write(&[
+                &fid.to_string(),
+                &format!("CL{fid:05}"),
+                &name,
+                &providers,
+                &wkt::write(&geom),
+            ])?;
+        }
+
+        let mut r = Rng(hash(self.seed, TAG_HAZARD, key.0, key.1, key.2));
+        // Industry sits at the edge of the cities more than in their
+        // centres, and thinly in the country.
+        let chance = match leaf.level {
+            0 | 1 => 0.006,
+            2 => 0.008,
+            3 => 0.004,
+            _ => 0.0015,
+        };
+        if r.unit() < chance {
+            self.hazard_site(&mut r, leaf, urban)?;
+        }
+
+        let mut r = Rng(hash(self.seed, TAG_LIBRARY, key.0, key.1, key.2));
+        let branch = r.unit() < pop as f64 / RESIDENTS_PER_BRANCH;
+        let stop = !urban && pop > 0 && r.unit() < BOOKMOBILE_STOP;
+        if branch || stop {
+            let (branch_type, ending) = if branch {
+                ("branch", "Branch Library")
+            } else {
+                ("bookmobile stop", "Bookmobile Stop")
+            };
+            let name = format!("{} {} {ending}", r.pick(&WORDS_A), r.pick(&WORDS_B));
+            let (lon, lat) = self.inner_point(&mut r, leaf);
+            self.libraries.push(LibraryRow {
+                name,
+                branch_type,
+                lon,
+                lat,
+            });
+        }
+        Ok(())
+    }
+
+    /// One hazard site in a block: a point, or for a landfill or a rail
+    /// yard in a block large enough, its footprint within the block's
+    /// inner part (at most 0.16 of the block's side from a centre at most
+    /// 0.04 from the block's middle).
+    fn hazard_site(&mut self, r: &mut Rng, leaf: Leaf, urban: bool) -> std::io::Result<()> {
+        let g = self.g;
+        let s = leaf.size() as f64;
+        let side_m = 1000.0 * s * (g.dlat * KM_PER_DEG_LAT).min(g.dlon * KM_PER_DEG_LON);
+        let mut u = r.unit();
+        let mut pick = HAZARD_KINDS[HAZARD_KINDS.len() - 1];
+        for k in HAZARD_KINDS {
+            let share = if urban { k.3 } else { k.2 };
+            if u < share {
+                pick = k;
+                break;
+            }
+            u -= share;
+        }
+        let (kind, ending, _, _, footprint) = pick;
+        let name = format!("{} {} {ending}", r.pick(&WORDS_A), r.pick(&WORDS_B));
+        let limit = 0.16 * side_m;
+        let drawn = r.unit() < footprint;
+        let geom = if drawn && kind == "landfill" && limit >= 120.0 {
+            let (lon, lat) = g.lonlat(
+                leaf.x as f64 + s * r.range(0.46, 0.54),
+                leaf.y as f64 + s * r.range(0.46, 0.54),
+            );
+            let radius = r.range(150.0, 450.0).min(limit);
+            let n = 14 + r.below(7);
+            polygon(vec![star(r, lon, lat, radius, n)])
+        } else if drawn && kind == "rail yard" && limit >= 110.0 {
+            let (lon, lat) = g.lonlat(
+                leaf.x as f64 + s * r.range(0.46, 0.54),
+                leaf.y as f64 + s * r.range(0.46, 0.54),
+            );
+            // A long rectangle: half-length up to 800 m, half-width a
+            // fifth of it or less, turned by a random angle; corners
+            // counter-clockwise, within `limit` of the centre.
+            let half_len = r.range(300.0, 800.0).min(0.98 * limit);
+            let half_wid = r.range(0.08, 0.2) * half_len;
+            let a = r.range(0.0, std::f64::consts::PI);
+            let (c, sn) = (a.cos(), a.sin());
+            let mut ring = Vec::with_capacity(10);
+            for (x, y) in [(-1.0, -1.0), (1.0, -1.0), (1.0, 1.0), (-1.0, 1.0)] {
+                let (dx, dy) = (x * half_len, y * half_wid);
+                let (plon, plat) = offset(lon, lat, dx * c - dy * sn, dx * sn + dy * c);
+                ring.extend([q7(plon), q7(plat)]);
+            }
+            close(&mut ring);
+            polygon(vec![ring])
+        } else {
+            let (x, y) = self.inner_point(r, leaf);
+            Geometry::point(x, y)
+        };
+        self.stats.footprints += matches!(geom.shape, Shape::Polygon(_)) as u64;
+        self.extent("hazard_sites", &geom);
+        let fid = self.hazards.rows + 1;
+        self.hazards.write(&[
+            &fid.to_string(),
+            &format!("HZ{fid:05}"),
+            &name,
+            kind,
+            &wkt::write(&geom),
+        ])
+    }
+
+    /// The libraries: one central library per county in its densest block
+    /// (county order), then the branches and bookmobile stops in block
+    /// order.
+    fn write_libraries(&mut self, out: &mut Csv) -> std::io::Result<()> {
+        let mut rows = Vec::new();
+        for (i, best) in self.densest.iter().enumerate() {
+            if let Some((_, leaf)) = *best {
+                let mut r = Rng(hash(self.seed, TAG_LIBRARY, -1, i as i64, 0));
+                let (lon, lat) = self.inner_point(&mut r, leaf);
+                rows.push(LibraryRow {
+                    name: format!("{} Central Library", COUNTIES[i].name),
+                    branch_type: "central",
+                    lon,
+                    lat,
+                });
+            }
+        }
+        rows.append(&mut self.libraries);
+        for row in rows {
+            let geom = Geometry::point(row.lon, row.lat);
+            self.extent("libraries", &geom);
+            let fid = out.rows + 1;
+            out.write(&[
+                &fid.to_string(),
+                &format!("LB{fid:05}"),
+                &row.name,
+                row.branch_type,
+                &wkt::write(&geom),
+            ])?;
         }
         Ok(())
     }
@@ -1522,7 +1843,7 @@ struct Table {
     select: &'static str,
 }
 
-const TABLES: [Table; 6] = [
+const TABLES: [Table; 10] = [
     Table {
         name: "counties",
         identifier: "Invented counties",
@@ -1587,6 +1908,50 @@ const TABLES: [Table; 6] = [
         csv: &["fid", "name", "wkt"],
         staging: "fid INTEGER, name TEXT, wkt TEXT",
         select: "fid, name, ST_GeomFromText(wkt, 4326)",
+    },
+    Table {
+        name: "groceries",
+        identifier: "Invented food stores",
+        about: "food stores: supermarkets, supercenters, large grocery stores, and convenience \
+                stores (which food-access definitions leave out), denser where people live",
+        geometry_type: "POINT",
+        columns: "fid INTEGER PRIMARY KEY, store_id TEXT NOT NULL, name TEXT NOT NULL, kind TEXT NOT NULL, geom POINT",
+        csv: &["fid", "store_id", "name", "kind", "wkt"],
+        staging: "fid INTEGER, store_id TEXT, name TEXT, kind TEXT, wkt TEXT",
+        select: "fid, store_id, name, kind, ST_GeomFromText(wkt, 4326)",
+    },
+    Table {
+        name: "clinics",
+        identifier: "Invented primary-care clinics",
+        about: "primary-care clinics with their capacity in full-time-equivalent providers \
+                (NULL: unknown)",
+        geometry_type: "POINT",
+        columns: "fid INTEGER PRIMARY KEY, clinic_id TEXT NOT NULL, name TEXT NOT NULL, providers REAL, geom POINT",
+        csv: &["fid", "clinic_id", "name", "providers", "wkt"],
+        staging: "fid INTEGER, clinic_id TEXT, name TEXT, providers TEXT, wkt TEXT",
+        select: "fid, clinic_id, name, CAST(NULLIF(providers, '') AS REAL), ST_GeomFromText(wkt, 4326)",
+    },
+    Table {
+        name: "hazard_sites",
+        identifier: "Invented pollution sources",
+        about: "pollution sources (chemical storage, fuel terminals, wastewater plants, \
+                landfills, rail yards): points, and footprints (polygons) for most landfills \
+                and rail yards",
+        geometry_type: "GEOMETRY",
+        columns: "fid INTEGER PRIMARY KEY, site_id TEXT NOT NULL, name TEXT NOT NULL, kind TEXT NOT NULL, geom GEOMETRY",
+        csv: &["fid", "site_id", "name", "kind", "wkt"],
+        staging: "fid INTEGER, site_id TEXT, name TEXT, kind TEXT, wkt TEXT",
+        select: "fid, site_id, name, kind, ST_GeomFromText(wkt, 4326)",
+    },
+    Table {
+        name: "libraries",
+        identifier: "Invented public libraries",
+        about: "public libraries: a central library per county, branches, and bookmobile stops",
+        geometry_type: "POINT",
+        columns: "fid INTEGER PRIMARY KEY, library_id TEXT NOT NULL, name TEXT NOT NULL, branch_type TEXT NOT NULL, geom POINT",
+        csv: &["fid", "library_id", "name", "branch_type", "wkt"],
+        staging: "fid INTEGER, library_id TEXT, name TEXT, branch_type TEXT, wkt TEXT",
+        select: "fid, library_id, name, branch_type, ST_GeomFromText(wkt, 4326)",
     },
 ];
 
@@ -1804,6 +2169,11 @@ fn run(args: &Args) -> Result<(), String> {
         parks: csv(2).map_err(io)?,
         rec: csv(3).map_err(io)?,
         fitness: csv(4).map_err(io)?,
+        groceries: csv(6).map_err(io)?,
+        clinics: csv(7).map_err(io)?,
+        hazards: csv(8).map_err(io)?,
+        libraries: Vec::new(),
+        densest: vec![None; COUNTIES.len()],
         county_sides: (0..COUNTIES.len()).map(|_| Vec::new()).collect(),
         urban_sides: (0..CORES.len()).map(|_| Vec::new()).collect(),
         extents: HashMap::new(),
@@ -1841,6 +2211,8 @@ fn run(args: &Args) -> Result<(), String> {
             .write(&[&fid, c.name, &wkt::write(&geom)])
             .map_err(io)?;
     }
+    let mut libraries = csv(9).map_err(io)?;
+    gen.write_libraries(&mut libraries).map_err(io)?;
     let st = std::mem::take(&mut gen.stats);
     let counts = [
         ("counties", counties.finish().map_err(io)?),
@@ -1849,6 +2221,10 @@ fn run(args: &Args) -> Result<(), String> {
         ("rec_sites", gen.rec.finish().map_err(io)?),
         ("fitness_list", gen.fitness.finish().map_err(io)?),
         ("urban_areas", urban.finish().map_err(io)?),
+        ("groceries", gen.groceries.finish().map_err(io)?),
+        ("clinics", gen.clinics.finish().map_err(io)?),
+        ("hazard_sites", gen.hazards.finish().map_err(io)?),
+        ("libraries", libraries.finish().map_err(io)?),
     ];
     let sql = load_sql(&dir, args, &gen.extents)?;
     std::fs::write(dir.join("load.sql"), sql).map_err(io)?;
@@ -1880,6 +2256,12 @@ fn run(args: &Args) -> Result<(), String> {
         "  parks: {} with a pond, {} in two pieces; fitness_list: {} repeat a rec_sites location, \
          {} without coordinates; coarse grid {} x {}",
         st.parks_with_holes, st.multi_parks, st.duplicates, st.no_coordinates, grid.nx, grid.ny
+    );
+    let _ = writeln!(
+        out,
+        "  groceries: {} convenience stores; clinics: {} of unknown capacity, {} added on county \
+         lines; hazard_sites: {} footprints",
+        st.convenience, st.unknown_capacity, st.county_line_clinics, st.footprints
     );
     Ok(())
 }
