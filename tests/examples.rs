@@ -66,6 +66,12 @@ fn every_example_script_is_tested() {
     let tested = [
         ("first-steps.sql", "tests/examples.rs"),
         ("exercise-access.sql", "tests/demo.rs"),
+        ("land-coverage.sql", "tests/example_land_coverage.rs"),
+        ("food-access.sql", "tests/example_food_access.rs"),
+        ("hazard-proximity.sql", "tests/example_hazard_proximity.rs"),
+        ("sensitivity.sql", "tests/example_sensitivity.rs"),
+        ("care-access-2sfca.sql", "tests/example_care_access.rs"),
+        ("join-measures.sql", "tests/example_join_measures.rs"),
     ];
     let mut found: Vec<String> =
         std::fs::read_dir(concat!(env!("CARGO_MANIFEST_DIR"), "/sql-examples"))

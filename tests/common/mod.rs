@@ -102,10 +102,16 @@ pub fn query(sql: &str) -> String {
 /// argument, asserts it succeeded with its closing "N passed, 0 failed"
 /// line, and returns what it printed.
 pub fn python_check(script: &str) -> String {
+    python_check_with(script, &[])
+}
+
+/// [`python_check`] with more arguments after the library's path.
+pub fn python_check_with(script: &str, more: &[&str]) -> String {
     let path = format!("{}/tests/python/{script}", env!("CARGO_MANIFEST_DIR"));
     let out = Command::new("python3")
         .arg(&path)
         .arg(library())
+        .args(more)
         .output()
         .expect("python3 is needed; tests/prepare-host installs it");
     let stdout = String::from_utf8_lossy(&out.stdout).into_owned();
@@ -116,4 +122,214 @@ pub fn python_check(script: &str) -> String {
     );
     assert!(stdout.contains(" passed, 0 failed"), "{stdout}");
     stdout
+}
+
+// ----------------------------------------------------------------------
+// Example scripts on a copy of the demo database, and the brute-force
+// references their tests compare with (tests/example_*.rs).
+// ----------------------------------------------------------------------
+
+/// The committed demo database (demo-db/README.md).
+pub const DEMO_DB: &str = "demo-db/demo-region.gpkg";
+
+/// A fresh folder for one example test, with a results/ folder in it.
+pub fn example_dir(name: &str) -> PathBuf {
+    let dir = std::env::temp_dir().join(format!("ambit-example-{name}-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(dir.join("results")).expect("results folder");
+    dir
+}
+
+/// Runs the SQL of sql-examples/`script` (its `.load` line replaced by the
+/// library of this test run) on a fresh copy of the demo database in
+/// `dir`, the way the script's header says to run it; asserts it succeeded
+/// without messages and returns the copy and what the script printed.
+pub fn run_on_demo_copy(dir: &std::path::Path, script: &str, sql: &str) -> (PathBuf, String) {
+    assert!(
+        sql.contains("\n.load target/release/libambit\n"),
+        "{script} loads ambit"
+    );
+    let db = dir.join(script.replace(".sql", ".gpkg"));
+    std::fs::copy(
+        std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join(DEMO_DB),
+        &db,
+    )
+    .expect("copy of the demo database");
+    let body: String = sql
+        .lines()
+        .filter(|l| !l.starts_with(".load "))
+        .map(|l| format!("{l}\n"))
+        .collect();
+    let run = shell_at(Some(dir), &[db.to_str().expect("path")], &[], &body);
+    assert!(
+        run.status == 0 && run.stderr.is_empty(),
+        "{script} failed (status {}):\n{}",
+        run.status,
+        run.stderr
+    );
+    (db, run.stdout)
+}
+
+/// The text of sql-examples/`script`.
+pub fn example_sql(script: &str) -> String {
+    std::fs::read_to_string(format!(
+        "{}/sql-examples/{script}",
+        env!("CARGO_MANIFEST_DIR")
+    ))
+    .expect("example script")
+}
+
+/// The rows of `sql` on `db` (ambit loaded), fields split at '|'.
+pub fn db_rows(db: &std::path::Path, sql: &str) -> Vec<Vec<String>> {
+    let out = Command::new(SHELL)
+        .arg(db)
+        .arg(format!(".load {}", library().with_extension("").display()))
+        .arg(sql)
+        .output()
+        .expect("sqlite3");
+    assert!(
+        out.status.success(),
+        "{sql}: {}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    String::from_utf8_lossy(&out.stdout)
+        .lines()
+        .map(|l| l.split('|').map(str::to_string).collect())
+        .collect()
+}
+
+/// The tables printed in the shell's box mode: for each, its header cells
+/// and its rows of cells (trimmed).
+pub fn box_tables(printed: &str) -> Vec<(Vec<String>, Vec<Vec<String>>)> {
+    let mut tables = Vec::new();
+    let mut current: Option<(Vec<String>, Vec<Vec<String>>)> = None;
+    for line in printed.lines() {
+        if line.starts_with('┌') {
+            current = Some((Vec::new(), Vec::new()));
+        } else if line.starts_with('└') {
+            tables.extend(current.take());
+        } else if let Some(t) = current.as_mut() {
+            if line.starts_with('│') {
+                let cells: Vec<String> = line
+                    .trim_matches('│')
+                    .split('│')
+                    .map(|c| c.trim().to_string())
+                    .collect();
+                if t.0.is_empty() {
+                    t.0 = cells;
+                } else {
+                    t.1.push(cells);
+                }
+            }
+        }
+    }
+    tables
+}
+
+/// A prepared geometry from the hex of a geometry blob.
+pub fn prepared_hex(hex: &str) -> ambit::proximity::Prepared {
+    let bytes: Vec<u8> = (0..hex.len())
+        .step_by(2)
+        .map(|i| u8::from_str_radix(&hex[i..i + 2], 16).expect("hex"))
+        .collect();
+    let g = ambit::blob::decode_valid(&bytes)
+        .expect("valid blob")
+        .geometry;
+    ambit::proximity::Prepared::new(&g)
+}
+
+/// A lower bound on the distance between two prepared geometries from
+/// their bounding balls (minus infinity when one has none).
+fn ball_gap(a: &ambit::proximity::Prepared, b: &ambit::proximity::Prepared) -> f64 {
+    match (a.ball, b.ball) {
+        (Some(x), Some(y)) => x.gap(&y),
+        _ => f64::NEG_INFINITY,
+    }
+}
+
+/// True when the exact geodesic minimum distance
+/// (ambit::proximity::distance) is at most `reach`; the exact computation
+/// is skipped only when the bounding balls prove the distance larger.
+pub fn within_reach(
+    a: &ambit::proximity::Prepared,
+    b: &ambit::proximity::Prepared,
+    reach: f64,
+) -> bool {
+    ball_gap(a, b) <= reach && ambit::proximity::distance(a, b).is_some_and(|d| d <= reach)
+}
+
+/// The exact distance from `a` to the nearest of `features` and its
+/// position, by brute force: every feature is considered, in the order of
+/// its ball lower bound, and the search stops only when that bound exceeds
+/// the best exact distance found. Ties go to the earlier feature.
+pub fn nearest_of(
+    a: &ambit::proximity::Prepared,
+    features: &[ambit::proximity::Prepared],
+) -> Option<(f64, usize)> {
+    let mut order: Vec<(f64, usize)> = features
+        .iter()
+        .enumerate()
+        .map(|(i, f)| (ball_gap(a, f), i))
+        .collect();
+    order.sort_by(|x, y| x.0.total_cmp(&y.0).then(x.1.cmp(&y.1)));
+    let mut best: Option<(f64, usize)> = None;
+    for (lower, i) in order {
+        if best.is_some_and(|(d, _)| lower > d) {
+            break;
+        }
+        if let Some(d) = ambit::proximity::distance(a, &features[i]) {
+            if best.is_none_or(|(b, j)| d < b || (d == b && i < j)) {
+                best = Some((d, i));
+            }
+        }
+    }
+    best
+}
+
+/// Rounds like SQLite's round(x, 1) for the percentages the scripts print.
+pub fn pct1(part: i64, whole: i64) -> Option<f64> {
+    (whole != 0).then(|| (1000.0 * part as f64 / whole as f64).round() / 10.0)
+}
+
+/// The text of the script sql-examples/`name` without its `.load` line (the
+/// scripts load the release build by its relative path; the tests load the
+/// library built for this run, as `shell_at` does).
+pub fn example_body(name: &str) -> String {
+    let script = example_sql(name);
+    assert!(
+        script.contains(".load target/release/libambit"),
+        "{name} loads ambit"
+    );
+    script
+        .lines()
+        .filter(|l| !l.starts_with(".load "))
+        .map(|l| format!("{l}\n"))
+        .collect()
+}
+
+/// Runs sql-examples/`name` on the database file `db` with `dir` as the
+/// current folder (so its `results/...` files land in `dir/results`).
+pub fn run_example_on(dir: &std::path::Path, db: &std::path::Path, name: &str) -> ShellRun {
+    std::fs::create_dir_all(dir.join("results")).expect("results folder");
+    shell_at(
+        Some(dir),
+        &[db.to_str().expect("utf-8 path")],
+        &[],
+        &example_body(name),
+    )
+}
+
+/// The cells of the rows of a table printed in the shell's box mode (the
+/// lines with `│`), header row first.
+pub fn box_rows(printed: &str) -> Vec<Vec<String>> {
+    printed
+        .lines()
+        .filter(|l| l.starts_with('│'))
+        .map(|l| {
+            l.trim_matches('│')
+                .split('│')
+                .map(|c| c.trim().to_string())
+                .collect()
+        })
+        .collect()
 }
