@@ -52,7 +52,10 @@ fn land_coverage_adds_up_and_matches_an_independent_reference() {
     let last = touching.last().unwrap();
     let (n, whole): (i64, i64) = (last[0].parse().unwrap(), last[1].parse().unwrap_or(0));
     assert!(n > 100, "{n} blocks touch a park");
-    assert_eq!(n, whole, "blocks touching a park are wholly within half a mile of it");
+    assert_eq!(
+        n, whole,
+        "blocks touching a park are wholly within half a mile of it"
+    );
 
     // The county table is the area-weighted sum of its blocks.
     let sums = common::db_rows(
