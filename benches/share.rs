@@ -12,22 +12,12 @@
 
 mod support;
 
-use std::process::Command;
-
-use support::{library, root, shell, times};
+use support::{build_region, shell, times};
 
 const LAYER: &str = "SELECT ambit_layer('parks', geom, ambit_miles(0.5), fid) FROM parks;";
 
 fn run(blocks: usize, dir: &std::path::Path) {
-    let db = dir.join(format!("region-{blocks}.gpkg"));
-    let status = Command::new(root().join("demo-db/build-region"))
-        .args([blocks.to_string(), "7".to_string()])
-        .arg(&db)
-        .env("AMBIT_LIB", library())
-        .env("AMBIT_REGION_BIN", env!("CARGO_BIN_EXE_ambit-region"))
-        .status()
-        .unwrap();
-    assert!(status.success(), "build-region failed");
+    let db = build_region(blocks, dir);
     let (counts, _, _) = shell(
         &db,
         &[],

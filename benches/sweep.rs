@@ -33,7 +33,7 @@ mod support;
 use std::path::Path;
 use std::process::Command;
 
-use support::{library, root, shell, timed, times};
+use support::{build_region, root, shell, timed, times};
 
 const LAYER: &str = "
 SELECT ambit_layer_drop('urban');
@@ -75,15 +75,7 @@ fn ensure_python_packages() {
 }
 
 fn run(blocks: usize, dir: &Path) {
-    let db = dir.join(format!("region-{blocks}.gpkg"));
-    let status = Command::new(root().join("demo-db/build-region"))
-        .args([blocks.to_string(), "7".to_string()])
-        .arg(&db)
-        .env("AMBIT_LIB", library())
-        .env("AMBIT_REGION_BIN", env!("CARGO_BIN_EXE_ambit-region"))
-        .status()
-        .unwrap();
-    assert!(status.success(), "build-region failed");
+    let db = build_region(blocks, dir);
     shell(&db, &[], LAYER);
     let (counts, _, _) = shell(
         &db,

@@ -13,7 +13,7 @@
 -- the urban_areas layer, that is when its geodesic distance to an urban
 -- area is 0 (inside it, or touching its edge); every other block is rural.
 --
--- How this differs from the Atlas, honestly: the Atlas measures from
+-- How this differs from the Atlas: the Atlas measures from
 -- points inside small areas (per its documentation, the centres of
 -- half-kilometre grid cells that carry the census population; we have not
 -- re-derived every detail) and reports census tracts, which it classifies

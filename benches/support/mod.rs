@@ -61,3 +61,18 @@ pub fn times(out: &str) -> Vec<f64> {
         .map(|l| l.split_whitespace().next().unwrap().parse().unwrap())
         .collect()
 }
+
+/// Builds the invented region of `blocks` blocks (seed 7) in `dir` with
+/// demo-db/build-region; returns the GeoPackage's path.
+pub fn build_region(blocks: usize, dir: &Path) -> PathBuf {
+    let db = dir.join(format!("region-{blocks}.gpkg"));
+    let status = Command::new(root().join("demo-db/build-region"))
+        .args([blocks.to_string(), "7".to_string()])
+        .arg(&db)
+        .env("AMBIT_LIB", library())
+        .env("AMBIT_REGION_BIN", env!("CARGO_BIN_EXE_ambit-region"))
+        .status()
+        .unwrap();
+    assert!(status.success(), "build-region failed");
+    db
+}

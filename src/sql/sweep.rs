@@ -52,6 +52,10 @@ use crate::sql::{guard, Args};
 const SWEEP: &str = "ambit_sweep";
 const SWEEP_PARAMS: &[&str] = &["layer", "query"];
 
+/// The most rows one parallel task evaluates before others can take the
+/// rest of its share.
+const ROWS_PER_TASK: usize = 16;
+
 /// Rows per chunk: AMBIT_CHUNK_ROWS if set (1 or more), else 8192.
 pub fn chunk_rows() -> usize {
     std::env::var("AMBIT_CHUNK_ROWS")
@@ -456,8 +460,13 @@ impl SweepCursor<'_> {
         let layer = Arc::clone(&run.layer);
         let wanted = run.wanted;
         let n = input.len() as u64;
+        // Rows differ in cost by 1000x (a block beside a park of thousands
+        // of edges against one in the open), and neighbours in a table are
+        // often alike; leaves of at most ROWS_PER_TASK rows let idle threads
+        // take work from a busy one instead of waiting for its whole half.
         let rows: Result<Vec<Row>, String> = input
             .into_par_iter()
+            .with_max_len(ROWS_PER_TASK)
             .map(|(id, geom)| evaluate(&layer, id, geom, wanted))
             .collect();
         self.rows = rows.map_err(|e| table_error(SWEEP, e))?;

@@ -13,30 +13,22 @@ Usage: python3 land_coverage_check.py path/to/libambit.so path/to/result.gpkg
 
 import sys
 
-import apsw
 import numpy as np
 import shapely
 from pyproj import CRS, Transformer
+
+from checks import Checks, connect
 from shapely import wkb
 
 HALF_MILE = 804.672  # 0.5 mi (common practice, no source); NIST SP 811 B.8 mile
 TOLERANCE_PCT = 0.01
 
-checks = 0
-
-
-def check(condition, what):
-    global checks
-    if not condition:
-        raise AssertionError(what)
-    checks += 1
+check = Checks()
 
 
 def main():
     library, db = sys.argv[1], sys.argv[2]
-    conn = apsw.Connection(db, flags=apsw.SQLITE_OPEN_READONLY)
-    conn.enable_load_extension(True)
-    conn.load_extension(library)
+    conn = connect(library, db, readonly=True)
     rows = lambda sql: conn.execute(sql).fetchall()
     parks = [wkb.loads(b) for (b,) in rows("SELECT ST_AsBinary(geom) FROM parks")]
     results = {
@@ -72,7 +64,7 @@ def main():
               f"county {got_county:.5f} % vs {want_county:.5f} % ({len(water)} water blocks, {len(near)} parks)")
         check(abs(got_land - want_land) <= TOLERANCE_PCT, f"{geoid} land: {got_land} vs {want_land}")
         check(abs(got_county - want_county) <= TOLERANCE_PCT, f"{geoid} county: {got_county} vs {want_county}")
-    print(f"{checks} passed, 0 failed")
+    check.report()
 
 
 if __name__ == "__main__":

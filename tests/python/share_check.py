@@ -37,19 +37,14 @@ from geographiclib.geodesic import Geodesic
 from pyproj import CRS, Transformer
 from shapely.geometry import Point, Polygon
 
+from checks import Checks, connect
+
 G = Geodesic.WGS84
 HALF_MILE = 804.672
 MILE = 1609.344
 QUAD_SEGS = 512
 
-checks = 0
-
-
-def check(condition, what):
-    global checks
-    if not condition:
-        raise AssertionError(what)
-    checks += 1
+check = Checks()
 
 
 def num(v):
@@ -254,14 +249,12 @@ def exact_cases(conn):
 
 
 def main():
-    conn = apsw.Connection(":memory:")
-    conn.enable_load_extension(True)
-    conn.load_extension(sys.argv[1])
+    conn = connect(sys.argv[1])
     rng = random.Random(20261201)
     block_sized(conn, rng)
     county_sized(conn, rng)
     exact_cases(conn)
-    print(f"{checks} passed, 0 failed")
+    check.report()
 
 
 if __name__ == "__main__":
