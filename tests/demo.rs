@@ -16,8 +16,7 @@ use std::collections::HashMap;
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
-use ambit::blob;
-use ambit::proximity::{distance, Prepared};
+use ambit::proximity::Prepared;
 use ambit::units::METRES_PER_MILE;
 use rayon::prelude::*;
 
@@ -100,26 +99,6 @@ fn rows(db: &Path, sql: &str) -> Vec<Vec<String>> {
         .collect()
 }
 
-fn unhex(s: &str) -> Vec<u8> {
-    (0..s.len())
-        .step_by(2)
-        .map(|i| u8::from_str_radix(&s[i..i + 2], 16).unwrap())
-        .collect()
-}
-
-fn prepared(hex: &str) -> Prepared {
-    Prepared::new(&blob::decode_valid(&unhex(hex)).unwrap().geometry)
-}
-
-/// True when the geodesic minimum distance is at most `reach`, skipping
-/// the exact computation only when the balls prove it larger.
-fn within_reach(a: &Prepared, b: &Prepared, reach: f64) -> bool {
-    match (a.ball, b.ball) {
-        (Some(x), Some(y)) if x.gap(&y) > reach => false,
-        _ => distance(a, b).is_some_and(|d| d <= reach),
-    }
-}
-
 #[test]
 fn the_indicator_equals_an_independent_computation() {
     let dir = temp_dir("indicator");
@@ -140,31 +119,31 @@ fn the_indicator_equals_an_independent_computation() {
             r[0].parse().unwrap(),
             r[1].clone(),
             r[2].parse().unwrap(),
-            prepared(&r[3]),
+            common::prepared_hex(&r[3]),
         )
     })
     .collect();
     let parks: Vec<Prepared> = rows(&db, "SELECT hex(geom) FROM parks")
         .into_par_iter()
-        .map(|r| prepared(&r[0]))
+        .map(|r| common::prepared_hex(&r[0]))
         .collect();
     let urban: Vec<Prepared> = rows(&db, "SELECT hex(geom) FROM urban_areas")
         .iter()
-        .map(|r| prepared(&r[0]))
+        .map(|r| common::prepared_hex(&r[0]))
         .collect();
     let registry: Vec<Prepared> = rows(
         &db,
         "SELECT hex(geom) FROM rec_sites WHERE geom IS NOT NULL",
     )
     .iter()
-    .map(|r| prepared(&r[0]))
+    .map(|r| common::prepared_hex(&r[0]))
     .collect();
     let licensed: Vec<Prepared> = rows(
         &db,
         "SELECT hex(geom) FROM fitness_list WHERE geom IS NOT NULL",
     )
     .iter()
-    .map(|r| prepared(&r[0]))
+    .map(|r| common::prepared_hex(&r[0]))
     .collect();
 
     // The merge: a licensing entry within 20 m of a registry site is the
@@ -176,11 +155,11 @@ fn the_indicator_equals_an_independent_computation() {
         .chain(
             licensed
                 .iter()
-                .filter(|l| !registry.iter().any(|r| within_reach(l, r, 20.0))),
+                .filter(|l| !registry.iter().any(|r| common::within_reach(l, r, 20.0))),
         )
         .collect();
     for f in kept {
-        let is_urban = urban.iter().any(|u| within_reach(f, u, 0.0));
+        let is_urban = urban.iter().any(|u| common::within_reach(f, u, 0.0));
         facilities.push((
             f,
             if is_urban {
@@ -208,10 +187,10 @@ fn the_indicator_equals_an_independent_computation() {
     let flags: Vec<bool> = blocks
         .par_iter()
         .map(|(_, _, _, b)| {
-            parks.iter().any(|p| within_reach(b, p, half_mile))
+            parks.iter().any(|p| common::within_reach(b, p, half_mile))
                 || facilities
                     .iter()
-                    .any(|(f, reach)| within_reach(b, f, *reach))
+                    .any(|(f, reach)| common::within_reach(b, f, *reach))
         })
         .collect();
 

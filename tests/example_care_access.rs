@@ -23,7 +23,6 @@ mod common;
 use std::collections::HashMap;
 use std::path::{Path, PathBuf};
 
-use ambit::blob;
 use ambit::proximity::{distance, Prepared};
 use ambit::units::METRES_PER_MILE;
 use geographiclib_rs::{DirectGeodesic, Geodesic, InverseGeodesic};
@@ -463,17 +462,6 @@ fn enhanced_two_step_floating_catchment_by_hand() {
 // 2. The demo region.
 // ---------------------------------------------------------------------------
 
-fn unhex(s: &str) -> Vec<u8> {
-    (0..s.len())
-        .step_by(2)
-        .map(|i| u8::from_str_radix(&s[i..i + 2], 16).unwrap())
-        .collect()
-}
-
-fn prepared(hex: &str) -> Prepared {
-    Prepared::new(&blob::decode_valid(&unhex(hex)).unwrap().geometry)
-}
-
 #[test]
 fn the_demo_figures_equal_an_independent_computation() {
     let dir = temp_dir("demo");
@@ -494,7 +482,7 @@ fn the_demo_figures_equal_an_independent_computation() {
             r[0].parse().unwrap(),
             r[1].clone(),
             r[2].parse().unwrap(),
-            prepared(&r[3]),
+            common::prepared_hex(&r[3]),
         )
     })
     .collect();
@@ -503,7 +491,7 @@ fn the_demo_figures_equal_an_independent_computation() {
         "SELECT providers, hex(geom) FROM clinics WHERE providers IS NOT NULL AND geom IS NOT NULL ORDER BY fid",
     )
     .iter()
-    .map(|r| (r[0].parse().unwrap(), prepared(&r[1])))
+    .map(|r| (r[0].parse().unwrap(), common::prepared_hex(&r[1])))
     .collect();
     let unknown: i64 = common::db_rows(&db, "SELECT count(*) FROM clinics WHERE providers IS NULL")
         [0][0]
