@@ -42,7 +42,7 @@ use crate::proximity::boxes::LonLatBox;
 use crate::proximity::contain::point_in_prepared;
 use crate::proximity::distance::distance_within;
 use crate::proximity::layer::Feature;
-use crate::proximity::prepared::{Ball, Element, Prepared};
+use crate::proximity::prepared::{wrap_delta, Ball, Element, Prepared};
 
 /// Target for the sum of quadrature error estimates, relative to `g`'s
 /// area.
@@ -84,10 +84,10 @@ pub fn coverage_share(g: &Prepared, reaching: &[&Feature]) -> Result<Option<f64>
         return Ok(None);
     };
     if reaching.is_empty() {
-        return Ok(area_positive(g, &ball).then_some(0.0));
+        return Ok(area_positive(g).then_some(0.0));
     }
     if wholly_within_one(&ball, reaching) {
-        return Ok(area_positive(g, &ball).then_some(1.0));
+        return Ok(area_positive(g).then_some(1.0));
     }
     let plane = Plane::new(g, &ball, reaching);
     if plane.area <= 0.0 {
@@ -96,12 +96,16 @@ pub fn coverage_share(g: &Prepared, reaching: &[&Feature]) -> Result<Option<f64>
     plane.integrate().map(Some)
 }
 
-/// True when `g`'s polygons enclose a positive area in the plane at its
-/// ball's centre.
-fn area_positive(g: &Prepared, ball: &Ball) -> bool {
-    let frame = AzimuthalFrame::new(ball.centre);
+/// True when some ring of `g` encloses a positive area (its shoelace sum in
+/// longitude, unwrapped from its first vertex, and latitude is not 0): a
+/// cheap test of degenerate polygons, none of whose rings spans any area.
+fn area_positive(g: &Prepared) -> bool {
     g.polygons.iter().flatten().any(|ring| {
-        let pts: Vec<(f64, f64)> = ring.iter().map(|&p| frame.forward(p)).collect();
+        let lon0 = ring[0].0;
+        let pts: Vec<(f64, f64)> = ring
+            .iter()
+            .map(|&(lon, lat)| (wrap_delta(lon0, lon), lat))
+            .collect();
         shoelace(&pts) != 0.0
     })
 }
