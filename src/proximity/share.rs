@@ -288,8 +288,13 @@ impl ByHeight {
         } else {
             n as f64
         };
-        let count = wanted.clamp(1.0, 4096.0f64.min(n.max(1) as f64)) as usize;
-        let step = if extent > 0.0 {
+        let most = 4096.0f64.min(n.max(1) as f64);
+        let count = if wanted.is_finite() {
+            wanted.clamp(1.0, most) as usize
+        } else {
+            1
+        };
+        let step = if extent > 0.0 && extent.is_finite() {
             extent / count as f64
         } else {
             1.0
