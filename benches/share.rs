@@ -12,7 +12,7 @@
 
 mod support;
 
-use support::{build_region, shell, times};
+use support::{build_region, shell, sizes_from_args, times};
 
 const LAYER: &str = "SELECT ambit_layer('parks', geom, ambit_miles(0.5), fid) FROM parks;";
 
@@ -83,15 +83,7 @@ fn run(blocks: usize, dir: &std::path::Path) {
 }
 
 fn main() {
-    let sizes: Vec<usize> = std::env::args()
-        .skip(1)
-        .filter_map(|a| a.parse().ok())
-        .collect();
-    let sizes = if sizes.is_empty() {
-        vec![400_000]
-    } else {
-        sizes
-    };
+    let sizes = sizes_from_args(&[400_000]);
     let dir = std::env::temp_dir().join(format!("ambit-share-bench-{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
     println!("ambit_share benchmark (invented region; parks at 0.5 mi)");

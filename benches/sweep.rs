@@ -33,7 +33,7 @@ mod support;
 use std::path::Path;
 use std::process::Command;
 
-use support::{build_region, root, shell, timed, times};
+use support::{build_region, root, shell, sizes_from_args, timed, times};
 
 const LAYER: &str = "
 SELECT ambit_layer_drop('urban');
@@ -173,15 +173,7 @@ fn run(blocks: usize, dir: &Path) {
 }
 
 fn main() {
-    let sizes: Vec<usize> = std::env::args()
-        .skip(1)
-        .filter_map(|a| a.parse().ok())
-        .collect();
-    let sizes = if sizes.is_empty() {
-        vec![100_000, 400_000]
-    } else {
-        sizes
-    };
+    let sizes = sizes_from_args(&[100_000, 400_000]);
     ensure_python_packages();
     let dir = std::env::temp_dir().join(format!("ambit-sweep-bench-{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();

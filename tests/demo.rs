@@ -78,27 +78,6 @@ fn run_indicator(dir: &Path) -> (PathBuf, String) {
     (db, run.stdout)
 }
 
-fn rows(db: &Path, sql: &str) -> Vec<Vec<String>> {
-    let out = Command::new(common::SHELL)
-        .arg(db)
-        .arg(format!(
-            ".load {}",
-            common::library().with_extension("").display()
-        ))
-        .arg(sql)
-        .output()
-        .unwrap();
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    String::from_utf8_lossy(&out.stdout)
-        .lines()
-        .map(|l| l.split('|').map(str::to_string).collect())
-        .collect()
-}
-
 #[test]
 fn the_indicator_equals_an_independent_computation() {
     let dir = temp_dir("indicator");
@@ -109,7 +88,7 @@ fn the_indicator_equals_an_independent_computation() {
     );
 
     // Inputs, read straight from the demo tables.
-    let blocks: Vec<(i64, String, i64, Prepared)> = rows(
+    let blocks: Vec<(i64, String, i64, Prepared)> = common::db_rows(
         &db,
         "SELECT fid, geoid, population, hex(geom) FROM blocks ORDER BY fid",
     )
@@ -123,22 +102,22 @@ fn the_indicator_equals_an_independent_computation() {
         )
     })
     .collect();
-    let parks: Vec<Prepared> = rows(&db, "SELECT hex(geom) FROM parks")
+    let parks: Vec<Prepared> = common::db_rows(&db, "SELECT hex(geom) FROM parks")
         .into_par_iter()
         .map(|r| common::prepared_hex(&r[0]))
         .collect();
-    let urban: Vec<Prepared> = rows(&db, "SELECT hex(geom) FROM urban_areas")
+    let urban: Vec<Prepared> = common::db_rows(&db, "SELECT hex(geom) FROM urban_areas")
         .iter()
         .map(|r| common::prepared_hex(&r[0]))
         .collect();
-    let registry: Vec<Prepared> = rows(
+    let registry: Vec<Prepared> = common::db_rows(
         &db,
         "SELECT hex(geom) FROM rec_sites WHERE geom IS NOT NULL",
     )
     .iter()
     .map(|r| common::prepared_hex(&r[0]))
     .collect();
-    let licensed: Vec<Prepared> = rows(
+    let licensed: Vec<Prepared> = common::db_rows(
         &db,
         "SELECT hex(geom) FROM fitness_list WHERE geom IS NOT NULL",
     )
@@ -169,7 +148,7 @@ fn the_indicator_equals_an_independent_computation() {
             },
         ));
     }
-    let expected_facilities: i64 = rows(&db, "SELECT count(*) FROM facilities")[0][0]
+    let expected_facilities: i64 = common::db_rows(&db, "SELECT count(*) FROM facilities")[0][0]
         .parse()
         .unwrap();
     assert_eq!(
@@ -178,7 +157,7 @@ fn the_indicator_equals_an_independent_computation() {
         "merged facility count"
     );
     let urban_count = facilities.iter().filter(|f| f.1 == METRES_PER_MILE).count() as i64;
-    let expected_urban: i64 = rows(&db, "SELECT sum(urban) FROM facilities")[0][0]
+    let expected_urban: i64 = common::db_rows(&db, "SELECT sum(urban) FROM facilities")[0][0]
         .parse()
         .unwrap();
     assert_eq!(urban_count, expected_urban, "urban facilities");
@@ -195,10 +174,11 @@ fn the_indicator_equals_an_independent_computation() {
         .collect();
 
     // Identical flags, block by block.
-    let script_flags: HashMap<i64, bool> = rows(&db, "SELECT fid, access FROM block_access")
-        .iter()
-        .map(|r| (r[0].parse().unwrap(), r[1] == "1"))
-        .collect();
+    let script_flags: HashMap<i64, bool> =
+        common::db_rows(&db, "SELECT fid, access FROM block_access")
+            .iter()
+            .map(|r| (r[0].parse().unwrap(), r[1] == "1"))
+            .collect();
     let mut mismatches = 0;
     for ((fid, geoid, _, _), flag) in blocks.iter().zip(&flags) {
         if script_flags.get(fid) != Some(flag) {
@@ -221,7 +201,7 @@ fn the_indicator_equals_an_independent_computation() {
             c.2 += pop;
         }
     }
-    let table = rows(
+    let table = common::db_rows(
         &db,
         "SELECT county_geoid, blocks, population, population_with_access, pct_with_access FROM county_access ORDER BY county_geoid",
     );
@@ -290,7 +270,7 @@ assert len(geometries) == 50
         "pyogrio could not read the output (run tests/prepare-host): {stdout}\n{}",
         String::from_utf8_lossy(&out.stderr)
     );
-    let ours: Vec<String> = rows(
+    let ours: Vec<String> = common::db_rows(
         &db,
         "SELECT printf('%.1f', pct_with_access) FROM county_access ORDER BY fid",
     )

@@ -76,3 +76,16 @@ pub fn build_region(blocks: usize, dir: &Path) -> PathBuf {
     assert!(status.success(), "build-region failed");
     db
 }
+
+/// The region sizes given on the command line, or `default` when none are.
+pub fn sizes_from_args(default: &[usize]) -> Vec<usize> {
+    let sizes: Vec<usize> = std::env::args()
+        .skip(1)
+        .filter_map(|a| a.parse().ok())
+        .collect();
+    if sizes.is_empty() {
+        default.to_vec()
+    } else {
+        sizes
+    }
+}
