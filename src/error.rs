@@ -124,6 +124,9 @@ pub enum GeomError {
     NotJsonObject {
         found: String,
     },
+    /// The computation was interrupted (sqlite3_interrupt, Ctrl-C) before
+    /// it finished; nothing it would have changed was changed.
+    Interrupted,
 }
 
 impl fmt::Display for GeomError {
@@ -230,6 +233,7 @@ impl fmt::Display for GeomError {
                 f,
                 "must be a JSON object such as json_object(...) returns (RFC 7946, section 3.2), got {found}"
             ),
+            Interrupted => write!(f, "interrupted"),
         }
     }
 }

@@ -9,6 +9,7 @@ pub mod blob;
 pub mod error;
 pub mod geodesy;
 pub mod geometry;
+pub mod interrupt;
 pub mod proximity;
 pub mod render;
 pub mod sql;

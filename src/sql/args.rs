@@ -7,6 +7,7 @@ use rusqlite::types::ValueRef;
 
 use crate::blob::{self, Decoded};
 use crate::sql::error;
+use crate::sql::interrupt::HostInterrupt;
 use crate::sql::state::ConnState;
 
 /// The arguments of one call of an SQL function or table-valued function,
@@ -17,6 +18,7 @@ pub struct Args<'a> {
     values: [ValueRef<'a>; MAX_ARGS],
     len: usize,
     state: &'a ConnState,
+    call: Option<&'a rusqlite::functions::Context<'a>>,
 }
 
 /// The most arguments any ambit function takes (held inline: no allocation
@@ -63,6 +65,23 @@ impl<'a> Args<'a> {
             values: inline,
             len,
             state,
+            call: None,
+        }
+    }
+
+    /// The same arguments, knowing the function call they belong to (so a
+    /// long computation can see the statement's interrupt flag).
+    pub fn in_call(mut self, ctx: &'a rusqlite::functions::Context<'a>) -> Self {
+        self.call = Some(ctx);
+        self
+    }
+
+    /// The interrupt flag of the statement this call runs in (never set
+    /// when the arguments were not given their call with [`Args::in_call`]).
+    pub fn interrupt(&self) -> HostInterrupt<'a> {
+        match self.call {
+            Some(ctx) => HostInterrupt::of_call(ctx),
+            None => HostInterrupt::detached(),
         }
     }
 

@@ -11,6 +11,7 @@ pub mod args;
 pub mod entry;
 pub mod gpkg;
 pub mod info;
+pub mod interrupt;
 pub mod io;
 pub mod layer;
 pub mod measure;
@@ -71,6 +72,16 @@ pub fn error(function: &str, message: impl std::fmt::Display) -> rusqlite::Error
     )
 }
 
+/// The SQL error for an interrupted computation: SQLite's own
+/// SQLITE_INTERRUPT code (so hosts see an ordinary interrupt), with a
+/// message naming the function.
+pub fn interrupted(function: &str) -> rusqlite::Error {
+    rusqlite::Error::SqliteFailure(
+        rusqlite::ffi::Error::new(rusqlite::ffi::SQLITE_INTERRUPT),
+        Some(format!("{function}: interrupted")),
+    )
+}
+
 /// Registers every function of [`functions`] on `conn`, once per arity it
 /// accepts, so that SQLite itself refuses a wrong argument count; then the
 /// aggregate ambit_layer and the table-valued functions. All of them share
@@ -89,7 +100,7 @@ pub fn register(conn: &Connection) -> rusqlite::Result<()> {
             let state = Arc::clone(&state);
             conn.create_scalar_function(f.name, arity as i32, flags, move |ctx| {
                 let values = (0..ctx.len()).map(|i| ctx.get_raw(i));
-                let args = Args::new(function.name, function.params, values, &state);
+                let args = Args::new(function.name, function.params, values, &state).in_call(ctx);
                 guard(function.name, || (function.body)(&args))
             })?;
         }
