@@ -19,19 +19,49 @@
 //! pairwise algorithm for computing sample variances", Stanford report
 //! STAN-CS-79-773, 1979; title and report number from memory).
 //!
+//! Scaling: the mean and M2 are kept in units of a power of two, `scale`,
+//! set from the first value's exponent and grown (exactly, by powers of
+//! two) whenever a value is more than 2^480 times the scale; scaling by a
+//! power of two is exact, so on ordinary data the arithmetic is plain
+//! Welford, bit for bit. So no intermediate overflow or underflow for any
+//! finite data: the mean and the standard deviations are right up to the
+//! largest doubles (the standard deviations of 1e308 and -1e308 are 1e308),
+//! and a variance that exceeds the largest double is +infinity, never a
+//! negative number or NaN.
+//!
 //! Units: variances are in the square of the data's unit, standard
 //! deviations in the data's unit. Missing values (SQL NULL) are never given
 //! to an accumulator; the caller skips them, so every statistic describes
 //! the values present. Non-finite values are the caller's to refuse; given
-//! one, the results are NaN or infinite. Values whose spread exceeds about
-//! 1e154 overflow M2 to infinity.
+//! one, the results are NaN or infinite.
 
-/// Count, mean and sum of squared deviations of the values seen so far.
-#[derive(Clone, Copy, Debug, Default, PartialEq)]
+/// Values at or above this multiple of the scale make the scale grow, so
+/// that squared deviations summed over up to 2^60 values stay below 2^1022.
+const SCALE_LIMIT: f64 = 4.0e144; // > 2^480 = 3.1e144; deviations stay < 2^482
+
+/// The factor by which the scale grows at a time (a power of two, so every
+/// rescaling is exact).
+const SCALE_STEP: f64 = 18446744073709551616.0; // 2^64
+
+/// Count, mean and sum of squared deviations of the values seen so far,
+/// the mean and the sum kept in units of `scale` (see the module doc).
+#[derive(Clone, Copy, Debug, PartialEq)]
 pub struct Moments {
     n: u64,
     mean: f64,
     m2: f64,
+    scale: f64,
+}
+
+impl Default for Moments {
+    fn default() -> Self {
+        Moments {
+            n: 0,
+            mean: 0.0,
+            m2: 0.0,
+            scale: 1.0,
+        }
+    }
 }
 
 impl Moments {
@@ -49,9 +79,43 @@ impl Moments {
         m
     }
 
+    /// Expresses the mean and M2 in units of `scale` (a power of two at
+    /// least the current one).
+    fn rescale(&mut self, scale: f64) {
+        let f = scale / self.scale;
+        self.mean /= f;
+        self.m2 = self.m2 / f / f;
+        self.scale = scale;
+    }
+
+    /// The scale a value of magnitude `x` needs: for the first value, the
+    /// power of two of its own exponent (so tiny data keep their digits:
+    /// their squared deviations do not underflow); afterwards the current
+    /// scale, grown until `x` is well below overflow.
+    fn scale_for(&self, x: f64) -> f64 {
+        if self.n == 0 {
+            let exponent_bits = x.to_bits() & 0x7ff0_0000_0000_0000;
+            // Zero and subnormal values: the smallest normal power of two.
+            return f64::from_bits(exponent_bits.max(0x0010_0000_0000_0000));
+        }
+        let mut scale = self.scale;
+        while x.abs() / scale >= SCALE_LIMIT {
+            scale *= SCALE_STEP;
+        }
+        scale
+    }
+
     /// Adds the value `x` (Welford 1962): the mean moves by `delta / n` and
-    /// M2 grows by `delta * (x - new mean)`, with `delta = x - old mean`.
+    /// M2 grows by `delta * (x - new mean)`, with `delta = x - old mean`
+    /// (all in units of the scale).
     pub fn push(&mut self, x: f64) {
+        let scale = self.scale_for(x);
+        if self.n == 0 {
+            self.scale = scale;
+        } else if scale != self.scale {
+            self.rescale(scale);
+        }
+        let x = x / self.scale;
         self.n += 1;
         let delta = x - self.mean;
         self.mean += delta / self.n as f64;
@@ -71,6 +135,10 @@ impl Moments {
             *self = *other;
             return;
         }
+        let mut other = *other;
+        let scale = self.scale.max(other.scale);
+        self.rescale(scale);
+        other.rescale(scale);
         let (na, nb) = (self.n as f64, other.n as f64);
         let n = na + nb;
         let delta = other.mean - self.mean;
@@ -86,33 +154,45 @@ impl Moments {
 
     /// The arithmetic mean; `None` when no value was added.
     pub fn mean(&self) -> Option<f64> {
-        (self.n > 0).then_some(self.mean)
+        (self.n > 0).then_some(self.mean * self.scale)
+    }
+
+    /// M2 / divisor in the data's unit squared (+infinity when that exceeds
+    /// the largest double).
+    fn variance(&self, divisor: u64) -> f64 {
+        self.m2 / divisor as f64 * self.scale * self.scale
+    }
+
+    /// sqrt(M2 / divisor) in the data's unit, finite whenever it fits.
+    fn deviation(&self, divisor: u64) -> f64 {
+        (self.m2 / divisor as f64).sqrt() * self.scale
     }
 
     /// The sample variance, M2 / (n - 1), in the data's unit squared;
     /// `None` for fewer than two values (it is undefined there).
     pub fn var_samp(&self) -> Option<f64> {
-        (self.n >= 2).then(|| self.m2 / (self.n - 1) as f64)
+        (self.n >= 2).then(|| self.variance(self.n - 1))
     }
 
     /// The population variance, M2 / n, in the data's unit squared; `None`
     /// when no value was added, 0 for one value.
     pub fn var_pop(&self) -> Option<f64> {
-        (self.n >= 1).then(|| self.m2 / self.n as f64)
+        (self.n >= 1).then(|| self.variance(self.n))
     }
 
     /// The sample standard deviation, the square root of
     /// [`var_samp`](Self::var_samp), in the data's unit; `None` for fewer
-    /// than two values.
+    /// than two values. Computed without squaring the scale, so it is
+    /// finite even where the variance overflows.
     pub fn stddev_samp(&self) -> Option<f64> {
-        self.var_samp().map(f64::sqrt)
+        (self.n >= 2).then(|| self.deviation(self.n - 1))
     }
 
     /// The population standard deviation, the square root of
     /// [`var_pop`](Self::var_pop), in the data's unit; `None` when no value
     /// was added.
     pub fn stddev_pop(&self) -> Option<f64> {
-        self.var_pop().map(f64::sqrt)
+        (self.n >= 1).then(|| self.deviation(self.n))
     }
 }
 
@@ -317,5 +397,37 @@ mod tests {
         let mut c = Moments::new();
         c.merge(&a);
         assert_eq!(a, c);
+    }
+
+    #[test]
+    fn extreme_values_never_give_a_negative_or_nan_spread() {
+        // Regression (2026-12-02): var_pop and var_samp of (1e308, -1e308)
+        // were -Inf. Exact values worked by hand from the definitions: mean
+        // 0, population variance 1e616 (beyond the largest double, so
+        // +Inf), population sd 1e308, sample sd 1e308 * sqrt(2).
+        let m = Moments::of([1e308, -1e308]);
+        assert_eq!(m.mean(), Some(0.0));
+        assert_eq!(m.var_pop(), Some(f64::INFINITY));
+        assert_eq!(m.var_samp(), Some(f64::INFINITY));
+        assert!(rel(m.stddev_pop().unwrap(), 1e308) < 1e-15);
+        assert!(rel(m.stddev_samp().unwrap(), 1e308 * 2f64.sqrt()) < 1e-15);
+        // Large but representable: 3e200 and 5e200, mean 4e200, population
+        // sd 1e200, variance 1e400 (+Inf); merged from halves the same.
+        let mut a = Moments::of([3e200]);
+        a.merge(&Moments::of([5e200]));
+        for m in [Moments::of([3e200, 5e200]), a] {
+            assert!(rel(m.mean().unwrap(), 4e200) < 1e-15);
+            assert!(rel(m.stddev_pop().unwrap(), 1e200) < 1e-15);
+            assert_eq!(m.var_pop(), Some(f64::INFINITY));
+        }
+        // Mixed magnitudes: the big value rescales the running moments
+        // exactly; 1, 2, 3 then 1e300: mean 2.5e299, sd by hand
+        // sqrt(((1e300 - m)^2 + 3 m^2) / 4) = sqrt(3) / 4 * 1e300.
+        let m = Moments::of([1.0, 2.0, 3.0, 1e300]);
+        assert!(rel(m.mean().unwrap(), 2.5e299) < 1e-15);
+        assert!(rel(m.stddev_pop().unwrap(), 3f64.sqrt() / 4.0 * 1e300) < 1e-15);
+        // Tiny values are not scaled and keep their digits.
+        let m = Moments::of([1e-300, 3e-300]);
+        assert!(rel(m.stddev_pop().unwrap(), 1e-300) < 1e-15);
     }
 }

@@ -200,7 +200,7 @@ fn layer_errors_name_what_is_wrong() {
         ),
         (
             "SELECT ambit_layer('parks', ST_Point(1, 2), 'far');",
-            "ambit_layer: argument 3 (reach_m): must be a number, got text 'far'",
+            "ambit_layer: argument 3 (reach_m): 'far' must be a length such as '0.5 mi', '800 m', '3 km' or '2640 ft'",
         ),
         (
             "SELECT ambit_layer(name, ST_Point(1, 2)) FROM (SELECT 'a' AS name UNION ALL SELECT 'b');",

@@ -251,7 +251,7 @@ const BAD_INPUTS: &[Bad] = &[
     },
     Bad {
         sql: "SELECT ambit_within(ST_Point(1, 2), ST_Point(1, 2), 'far');",
-        message: &["ambit_within: argument 3 (metres): must be a number, got text 'far'"],
+        message: &["ambit_within: argument 3 (metres): 'far' must be a length such as '0.5 mi', '800 m', '3 km' or '2640 ft'"],
     },
     Bad {
         sql: "SELECT ambit_distance(ST_Point(1, 2), x'47500001CE1300000101000000000000000000F03F0000000000000040');",

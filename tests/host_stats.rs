@@ -252,3 +252,75 @@ fn agrees_with_pythons_statistics_module_on_fixed_seed_data() {
     // 16384 / sqrt(12) = 4730.
     assert!((4000.0..5500.0).contains(&python[0]), "{}", python[0]);
 }
+
+#[test]
+fn extreme_values_agree_with_pythons_exact_statistics() {
+    // Regression (2026-12-02): var_pop and var_samp of (1e308, -1e308)
+    // were -Inf. Reference: Python's statistics module, which sums squared
+    // deviations as exact fractions (CPython 3.11 Lib/statistics.py, from
+    // memory of the source) and raises OverflowError where the exact
+    // variance exceeds the largest double; ambit returns +Inf there, and its
+    // standard deviations stay finite.
+    let sets = [
+        "1e308, -1e308",
+        "1.7e308, 1.7e308, -1.7e308",
+        "3e200, 5e200, -1e200",
+        "1, 2, 3, 1e300",
+        "1e-300, 3e-300, 2e-300",
+        "-5e-320, 5e-320, 0",
+        "0, 1e150, -1e150, 7",
+    ];
+    let script = "import statistics, sys\n\
+                  for line in sys.stdin.read().splitlines():\n\
+                  \x20   x = [float(v) for v in line.split(',')]\n\
+                  \x20   out = []\n\
+                  \x20   for f in (statistics.stdev, statistics.pstdev, statistics.variance, statistics.pvariance):\n\
+                  \x20       try:\n\
+                  \x20           out.append(repr(f(x)))\n\
+                  \x20       except OverflowError:\n\
+                  \x20           out.append('inf')\n\
+                  \x20   print(*out)\n";
+    let mut child = Command::new("python3")
+        .args(["-c", script])
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .expect("python3 is needed; tests/prepare-host installs it");
+    child
+        .stdin
+        .take()
+        .expect("stdin")
+        .write_all(sets.join("\n").as_bytes())
+        .expect("write to python3");
+    let out = child.wait_with_output().expect("python3 output");
+    assert!(
+        out.status.success(),
+        "python3 failed: {}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let python = String::from_utf8_lossy(&out.stdout).into_owned();
+    for (set, line) in sets.iter().zip(python.lines()) {
+        let want: Vec<f64> = line.split_whitespace().map(parse).collect();
+        let values = set
+            .split(',')
+            .map(|v| format!("({})", v.trim()))
+            .collect::<Vec<_>>()
+            .join(", ");
+        let got = statistics(&format!("WITH d(x) AS (VALUES {values})"), "d");
+        for (name, (g, w)) in ["stdev", "pstdev", "variance", "pvariance"]
+            .iter()
+            .zip(got.iter().zip(&want))
+        {
+            assert!(*g >= 0.0, "{set}: {name} is {g}");
+            if w.is_infinite() {
+                assert_eq!(*g, f64::INFINITY, "{set}: {name}");
+            } else {
+                assert!(
+                    *g == *w || rel(*g, *w) < 1e-14,
+                    "{set}: {name}: ambit {g} vs Python {w}"
+                );
+            }
+        }
+    }
+}

@@ -43,6 +43,19 @@ pub fn describe(value: ValueRef<'_>) -> String {
     }
 }
 
+/// For a number passed as text (as CSV imports leave them): how to make it
+/// a number.
+fn cast_hint(value: ValueRef<'_>) -> String {
+    match value {
+        ValueRef::Text(t)
+            if std::str::from_utf8(t).is_ok_and(|s| s.trim().parse::<f64>().is_ok()) =>
+        {
+            "; it is a number stored as text (as a CSV import leaves it): CAST(column AS REAL) makes it a number".to_string()
+        }
+        _ => String::new(),
+    }
+}
+
 impl<'a> Args<'a> {
     /// The arguments `values` of a call of `name`, whose parameters are
     /// called `params`.
@@ -182,7 +195,10 @@ impl<'a> Args<'a> {
             ValueRef::Integer(v) => v as f64,
             ValueRef::Real(v) => v,
             other => {
-                return Err(self.fail_arg(i, format!("must be a number, got {}", describe(other))))
+                return Err(self.fail_arg(
+                    i,
+                    format!("must be a number, got {}", describe(other)) + &cast_hint(other),
+                ))
             }
         };
         if value.is_finite() {
@@ -190,6 +206,42 @@ impl<'a> Args<'a> {
         } else {
             Err(self.fail_arg(i, format!("must be a finite number, got {value}")))
         }
+    }
+
+    /// A distance argument, in metres: a number of metres, or text with
+    /// its unit (`'0.5 mi'`, `'800 m'`, `'3 km'`, `'2640 ft'`; see
+    /// [`crate::units::parse_length`]); NULL gives `None`. Refused, with a
+    /// message saying what to write: negative or non-finite distances,
+    /// text without a unit, and a bare number strictly between 0 and 1,
+    /// which is almost always a distance in miles or kilometres passed
+    /// where metres are taken (write `'0.5 m'` to mean half a metre).
+    pub fn distance(&self, i: usize) -> rusqlite::Result<Option<f64>> {
+        let metres = match self.raw(i) {
+            ValueRef::Text(t) => {
+                let text = String::from_utf8_lossy(t);
+                crate::units::parse_length(&text)
+                    .map_err(|e| self.fail_arg(i, format!("'{text}' {e}")))?
+            }
+            _ => match self.number(i)? {
+                None => return Ok(None),
+                Some(m) if m > 0.0 && m < 1.0 => {
+                    return Err(self.fail_arg(
+                        i,
+                        format!(
+                            "{m} metres is almost certainly a unit slip (bare numbers are metres): write '{m} mi' for {m} miles, '{m} km' for kilometres, or '{m} m' if you do mean metres"
+                        ),
+                    ))
+                }
+                Some(m) => m,
+            },
+        };
+        if metres < 0.0 || !metres.is_finite() {
+            return Err(self.fail_arg(
+                i,
+                format!("must be a distance of 0 or more metres, got {metres}"),
+            ));
+        }
+        Ok(Some(metres))
     }
 
     /// The integer of argument `i`; NULL gives `None`. A real with a

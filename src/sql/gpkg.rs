@@ -61,13 +61,30 @@ struct Survey {
     extent: Option<[f64; 4]>,
 }
 
-fn survey(conn: &Connection, table: &str, column: &str) -> rusqlite::Result<Survey> {
-    let mut stmt = conn.prepare(&format!(
-        "SELECT rowid, {} FROM {}",
-        ident(column),
-        ident(table)
-    ))?;
-    let mut rows = stmt.query([])?;
+/// How a row is named in messages: by rowid in a table; by position in a
+/// view, which has no rowid.
+fn row_label(is_view: bool, key: i64) -> String {
+    if is_view {
+        format!("row number {key} of the view")
+    } else {
+        format!("row with rowid {key}")
+    }
+}
+
+fn survey(conn: &Connection, table: &str, column: &str, is_view: bool) -> rusqlite::Result<Survey> {
+    let key = if is_view {
+        "row_number() OVER ()"
+    } else {
+        "rowid"
+    };
+    let mut stmt = conn
+        .prepare(&format!(
+            "SELECT {key}, {} FROM {}",
+            ident(column),
+            ident(table)
+        ))
+        .map_err(sqlite)?;
+    let mut rows = stmt.query([]).map_err(sqlite)?;
     let mut s = Survey {
         rows: 0,
         srs_id: None,
@@ -78,16 +95,17 @@ fn survey(conn: &Connection, table: &str, column: &str) -> rusqlite::Result<Surv
         all_m: true,
         extent: None,
     };
-    while let Some(row) = rows.next()? {
-        let rowid: i64 = row.get(0)?;
-        let bytes = match row.get_ref(1)? {
+    while let Some(row) = rows.next().map_err(sqlite)? {
+        let rowid: i64 = row.get(0).map_err(sqlite)?;
+        let label = row_label(is_view, rowid);
+        let bytes = match row.get_ref(1).map_err(sqlite)? {
             ValueRef::Null => continue,
             ValueRef::Blob(b) => b,
             other => {
                 return Err(error(
                     NAME,
                     format!(
-                        "column '{column}' of '{table}' holds a {} value in the row with rowid {rowid}; only geometry blobs can be registered",
+                        "column '{column}' of '{table}' holds a {} value in the {label}; only geometry blobs can be registered",
                         match other {
                             ValueRef::Integer(_) => "integer",
                             ValueRef::Real(_) => "real",
@@ -100,7 +118,7 @@ fn survey(conn: &Connection, table: &str, column: &str) -> rusqlite::Result<Surv
         let fail = |what: String| {
             error(
                 NAME,
-                format!("column '{column}' of '{table}', row with rowid {rowid}: {what}"),
+                format!("column '{column}' of '{table}', {label}: {what}"),
             )
         };
         if blob::encoding(bytes).map_err(|e| fail(e.to_string()))? != blob::Encoding::GeoPackage {
@@ -143,6 +161,22 @@ fn survey(conn: &Connection, table: &str, column: &str) -> rusqlite::Result<Surv
     Ok(s)
 }
 
+/// An SQLite error met while reading or writing, named as this function's.
+fn sqlite(e: rusqlite::Error) -> rusqlite::Error {
+    match e {
+        rusqlite::Error::SqliteFailure(code, Some(message)) if !message.starts_with(NAME) => {
+            rusqlite::Error::SqliteFailure(code, Some(format!("{NAME}: {message}")))
+        }
+        rusqlite::Error::SqliteFailure(code, None) => {
+            rusqlite::Error::SqliteFailure(code, Some(format!("{NAME}: {code}")))
+        }
+        other => error(NAME, other),
+    }
+}
+
+/// The savepoint that makes a registration all-or-nothing.
+const SAVEPOINT: &str = "ambit_gpkg_register";
+
 fn call(ctx: &Context<'_>) -> rusqlite::Result<i64> {
     let table = text_arg(ctx, 0, "table")?;
     let column = text_arg(ctx, 1, "column")?;
@@ -164,15 +198,55 @@ fn call(ctx: &Context<'_>) -> rusqlite::Result<i64> {
     // SAFETY: the connection this function was called on, used only within
     // this call and on this thread, to read the table and write metadata.
     let conn = unsafe { ctx.get_connection()? };
+    let plan = check(&conn, &table, &column, declared)?;
+    // Every check passed before anything was written; the writes happen
+    // inside one savepoint, so an SQLite error among them (a read-only or
+    // full database) leaves the file as it was.
+    conn.execute_batch(&format!("SAVEPOINT {SAVEPOINT}"))
+        .map_err(sqlite)?;
+    match write(&conn, &table, &column, &plan) {
+        Ok(()) => {
+            conn.execute_batch(&format!("RELEASE {SAVEPOINT}"))
+                .map_err(sqlite)?;
+            Ok(plan.survey.rows)
+        }
+        Err(e) => {
+            // The first error is the one to report; a failed rollback
+            // cannot add anything the user can act on.
+            let _ = conn.execute_batch(&format!("ROLLBACK TO {SAVEPOINT}; RELEASE {SAVEPOINT}"));
+            Err(e)
+        }
+    }
+}
+
+/// What registration will write, decided before anything is written.
+struct Plan {
+    survey: Survey,
+    srs_id: i64,
+    type_name: String,
+}
+
+/// Reads the table and checks everything registration needs; writes
+/// nothing.
+fn check(
+    conn: &Connection,
+    table: &str,
+    column: &str,
+    declared: Option<String>,
+) -> rusqlite::Result<Plan> {
     let columns: Vec<String> = {
-        let mut stmt = conn.prepare("SELECT name FROM pragma_table_info(?1)")?;
-        let names = stmt.query_map([&table], |r| r.get::<_, String>(0))?;
-        names.collect::<Result<_, _>>()?
+        let mut stmt = conn
+            .prepare("SELECT name FROM pragma_table_info(?1)")
+            .map_err(sqlite)?;
+        let names = stmt
+            .query_map([table], |r| r.get::<_, String>(0))
+            .map_err(sqlite)?;
+        names.collect::<Result<_, _>>().map_err(sqlite)?
     };
     if columns.is_empty() {
         return Err(error(NAME, format!("no table named '{table}'")));
     }
-    if !columns.iter().any(|c| c.eq_ignore_ascii_case(&column)) {
+    if !columns.iter().any(|c| c.eq_ignore_ascii_case(column)) {
         return Err(error(
             NAME,
             format!(
@@ -181,12 +255,23 @@ fn call(ctx: &Context<'_>) -> rusqlite::Result<i64> {
             ),
         ));
     }
-    let s = survey(&conn, &table, &column)?;
-    let srs_id = s.srs_id.unwrap_or(4326);
-    let found = gpkg_tables::column_type(s.types.iter().map(String::as_str)).to_string();
+    let is_view: bool = conn
+        .query_row(
+            "SELECT count(*) > 0 FROM sqlite_schema WHERE type = 'view' AND name = ?1 COLLATE NOCASE",
+            [table],
+            |r| r.get(0),
+        )
+        .map_err(sqlite)?;
+    let survey = survey(conn, table, column, is_view)?;
+    let srs_id = i64::from(survey.srs_id.unwrap_or(4326));
+    let found = gpkg_tables::column_type(survey.types.iter().map(String::as_str)).to_string();
     let type_name = match declared {
         Some(t) => {
-            if let Some(bad) = s.types.iter().find(|st| !gpkg_tables::assignable(st, &t)) {
+            if let Some(bad) = survey
+                .types
+                .iter()
+                .find(|st| !gpkg_tables::assignable(st, &t))
+            {
                 return Err(error(
                     NAME,
                     format!("column '{column}' of '{table}' holds {bad} geometries, which a {t} column cannot hold (OGC 12-128, Requirement 32)"),
@@ -196,23 +281,48 @@ fn call(ctx: &Context<'_>) -> rusqlite::Result<i64> {
         }
         None => found,
     };
-    conn.execute_batch(gpkg_tables::CREATE_TABLES)?;
+    let built_in = gpkg_tables::SPATIAL_REFS.iter().any(|r| r.srs_id == srs_id);
+    let defined = built_in
+        || {
+            let has_table: bool = conn
+            .query_row(
+                "SELECT count(*) > 0 FROM sqlite_schema WHERE type = 'table' AND name = 'gpkg_spatial_ref_sys'",
+                [],
+                |r| r.get(0),
+            )
+            .map_err(sqlite)?;
+            has_table
+                && conn
+                    .query_row(
+                        "SELECT count(*) > 0 FROM gpkg_spatial_ref_sys WHERE srs_id = ?1",
+                        [srs_id],
+                        |r| r.get::<_, bool>(0),
+                    )
+                    .map_err(sqlite)?
+        };
+    if !defined {
+        return Err(error(
+            NAME,
+            format!("srs_id {srs_id} of column '{column}' is not in gpkg_spatial_ref_sys; add its definition there first (nothing was written)"),
+        ));
+    }
+    Ok(Plan {
+        survey,
+        srs_id,
+        type_name,
+    })
+}
+
+/// Writes the container tables and the rows of one features layer.
+fn write(conn: &Connection, table: &str, column: &str, plan: &Plan) -> rusqlite::Result<()> {
+    let s = &plan.survey;
+    conn.execute_batch(gpkg_tables::CREATE_TABLES)
+        .map_err(sqlite)?;
     for r in gpkg_tables::SPATIAL_REFS {
         conn.execute(
             "INSERT OR IGNORE INTO gpkg_spatial_ref_sys (srs_name, srs_id, organization, organization_coordsys_id, definition, description) VALUES (?1, ?2, ?3, ?4, ?5, ?6)",
             rusqlite::params![r.srs_name, r.srs_id, r.organization, r.organization_coordsys_id, r.definition, r.description],
-        )?;
-    }
-    let known: i64 = conn.query_row(
-        "SELECT count(*) FROM gpkg_spatial_ref_sys WHERE srs_id = ?1",
-        [srs_id],
-        |r| r.get(0),
-    )?;
-    if known == 0 {
-        return Err(error(
-            NAME,
-            format!("srs_id {srs_id} of column '{column}' is not in gpkg_spatial_ref_sys; add its definition there first"),
-        ));
+        ).map_err(sqlite)?;
     }
     let extent = s.extent.map(|e| e.to_vec());
     let e = |i: usize| extent.as_ref().map(|v| v[i]);
@@ -223,8 +333,9 @@ fn call(ctx: &Context<'_>) -> rusqlite::Result<i64> {
            last_change = strftime('%Y-%m-%dT%H:%M:%fZ','now'),
            min_x = excluded.min_x, min_y = excluded.min_y, max_x = excluded.max_x,
            max_y = excluded.max_y, srs_id = excluded.srs_id",
-        rusqlite::params![table, e(0), e(1), e(2), e(3), srs_id],
-    )?;
+        rusqlite::params![table, e(0), e(1), e(2), e(3), plan.srs_id],
+    )
+    .map_err(sqlite)?;
     let flag = |any: bool, all: bool| {
         if !any {
             0
@@ -240,19 +351,23 @@ fn call(ctx: &Context<'_>) -> rusqlite::Result<i64> {
         rusqlite::params![
             table,
             column,
-            type_name,
-            srs_id,
+            plan.type_name,
+            plan.srs_id,
             flag(s.has_z, s.all_z),
             flag(s.has_m, s.all_m)
         ],
-    )?;
-    let application_id: i64 = conn.query_row("PRAGMA application_id", [], |r| r.get(0))?;
+    )
+    .map_err(sqlite)?;
+    let application_id: i64 = conn
+        .query_row("PRAGMA application_id", [], |r| r.get(0))
+        .map_err(sqlite)?;
     if application_id == 0 {
         conn.execute_batch(&format!(
             "PRAGMA application_id = {}; PRAGMA user_version = {};",
             gpkg_tables::APPLICATION_ID,
             gpkg_tables::USER_VERSION
-        ))?;
+        ))
+        .map_err(sqlite)?;
     }
-    Ok(s.rows)
+    Ok(())
 }

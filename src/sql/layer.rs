@@ -62,15 +62,10 @@ pub const SHARE_NEEDS_AREAS: &str =
 pub const LAYER_PARAMS: &[&str] = &["name", "geom", "reach_m", "feature_id"];
 const LAYER: &str = "ambit_layer";
 
-/// A distance argument: NULL allowed (`None`), else a finite number >= 0.
+/// A distance argument in metres (see [`Args::distance`]: numbers are
+/// metres, text carries its unit); NULL gives `None`.
 pub fn distance_arg(args: &Args, i: usize) -> rusqlite::Result<Option<f64>> {
-    match args.number(i)? {
-        Some(m) if m < 0.0 => Err(args.fail_arg(
-            i,
-            format!("must be a distance of 0 or more metres, got {m}"),
-        )),
-        other => Ok(other),
-    }
+    args.distance(i)
 }
 
 /// The layer named by argument 0.

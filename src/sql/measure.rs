@@ -58,15 +58,7 @@ fn distance(args: &Args) -> SqlResult {
 }
 
 fn within(args: &Args) -> SqlResult {
-    let metres = args.number(2)?;
-    if let Some(m) = metres {
-        if m < 0.0 {
-            return Err(args.fail_arg(
-                2,
-                format!("must be a distance of 0 or more metres, got {m}"),
-            ));
-        }
-    }
+    let metres = args.distance(2)?;
     let Some(metres) = metres else {
         return Ok(Value::Null);
     };

@@ -116,6 +116,12 @@ impl RawQuery {
         if !rest.trim().trim_end_matches(';').trim().is_empty() {
             return Err("the query must be a single SELECT statement".to_string());
         }
+        // SAFETY: stmt is a live prepared statement (owned by `query`).
+        if unsafe { ffi::sqlite3_stmt_readonly(stmt) } == 0 {
+            return Err(
+                "the query must be a read-only SELECT statement; this one would change the database (INSERT, UPDATE or DELETE ... RETURNING, and other writes are refused), so it was not run".to_string(),
+            );
+        }
         Ok(query)
     }
 
