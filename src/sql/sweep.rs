@@ -19,7 +19,9 @@
 //! number of rows. `reached`, `nearest_m` and `share` equal ambit_reached,
 //! ambit_nearest and ambit_share on the same row (NULL geometry: all NULL;
 //! empty: 0, NULL and NULL). An interrupt (sqlite3_interrupt, Ctrl-C in the shell) stops the
-//! next read of the query, at most one chunk later. Progress (rows done,
+//! sweep within milliseconds: the workers check a stop flag before every
+//! row, which the statement's thread sets as soon as it sees the interrupt
+//! (see crate::sql::interrupt). Progress (rows done,
 //! rows per second, time left) goes to stderr when stderr is a terminal or
 //! AMBIT_PROGRESS=1 (AMBIT_PROGRESS=0 silences it).
 //!
@@ -44,10 +46,12 @@ use rusqlite::types::Value;
 use rusqlite::vtab::{Context, Filters, IndexInfo, VTab, VTabConnection, VTabCursor};
 
 use crate::blob;
+use crate::interrupt::Interrupt;
 use crate::proximity::{Layer, Prepared};
+use crate::sql::interrupt::{run_parallel, HostInterrupt};
 use crate::sql::state::ConnState;
 use crate::sql::tables::{argument_plan_with, arguments, table_error};
-use crate::sql::{guard, Args};
+use crate::sql::{guard, interrupted, Args};
 
 const SWEEP: &str = "ambit_sweep";
 const SWEEP_PARAMS: &[&str] = &["layer", "query"];
@@ -470,12 +474,28 @@ impl SweepCursor<'_> {
         // of edges against one in the open), and neighbours in a table are
         // often alike; leaves of at most ROWS_PER_TASK rows let idle threads
         // take work from a busy one instead of waiting for its whole half.
-        let rows: Result<Vec<Row>, String> = input
-            .into_par_iter()
-            .with_max_len(ROWS_PER_TASK)
-            .map(|(id, geom)| evaluate(&layer, id, geom, wanted))
-            .collect();
-        self.rows = rows.map_err(|e| table_error(SWEEP, e))?;
+        // The workers check the stop flag before every row, and this thread
+        // sets it within a few milliseconds of an interrupt (Ctrl-C), so a
+        // chunk stops after the rows in hand, not at its end.
+        // SAFETY: the handle is the live connection of this virtual table,
+        // and `host` is used only here, on the thread running the statement.
+        let host = unsafe { HostInterrupt::of_db(self.table.db.0) };
+        let rows: Result<Vec<Row>, Option<String>> = run_parallel(&host, |stop| {
+            input
+                .into_par_iter()
+                .with_max_len(ROWS_PER_TASK)
+                .map(|(id, geom)| {
+                    if stop.requested() {
+                        return Err(None);
+                    }
+                    evaluate(&layer, id, geom, wanted).map_err(Some)
+                })
+                .collect()
+        });
+        self.rows = rows.map_err(|e| match e {
+            Some(message) => table_error(SWEEP, message),
+            None => interrupted(SWEEP),
+        })?;
         if let Some(p) = run.progress.as_mut() {
             p.report(n, run.finished);
         }
