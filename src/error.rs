@@ -206,10 +206,19 @@ impl fmt::Display for GeomError {
                 f,
                 "vertex {vertex} has a NaN or infinite coordinate; the data look corrupt"
             ),
-            OutOfRange { x, y, vertex } => write!(
-                f,
-                "vertex {vertex} ({x}, {y}) is outside longitude [-540, 540] / latitude [-90, 90]: the coordinates look projected (reproject to EPSG:4326 longitude/latitude) or corrupt"
-            ),
+            OutOfRange { x, y, vertex } => {
+                if y.abs() > 90.0 && y.abs() <= 180.0 && x.abs() <= 90.0 {
+                    write!(
+                        f,
+                        "vertex {vertex} ({x}, {y}) has latitude {y}, outside [-90, 90], but read the other way round ({y}, {x}) it is a valid longitude, latitude: are x and y swapped? ambit takes longitude first (x = longitude, y = latitude)"
+                    )
+                } else {
+                    write!(
+                        f,
+                        "vertex {vertex} ({x}, {y}) is outside longitude [-540, 540] / latitude [-90, 90]: the coordinates look projected (reproject to EPSG:4326 longitude/latitude) or corrupt"
+                    )
+                }
+            }
             LineTooShort { points } => write!(
                 f,
                 "a line string needs at least 2 points, this one has {points}"

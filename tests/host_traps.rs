@@ -233,3 +233,23 @@ fn views_register_and_their_errors_name_the_function() {
         r.stderr
     );
 }
+
+#[test]
+fn coordinates_that_fit_only_the_other_way_round_are_called_swapped() {
+    // The trap: latitude and longitude swapped. Where the values only make
+    // sense swapped (a latitude beyond 90 that is a fine longitude), the
+    // error says so; a swap that stays in range cannot be seen in one
+    // point, which is why ambit_layers shows each layer's extent.
+    refused(
+        "SELECT ST_Point(38.5, -121.4);",
+        "ST_Point: vertex 1 (38.5, -121.4) has latitude -121.4, outside [-90, 90], but read the other way round (-121.4, 38.5) it is a valid longitude, latitude: are x and y swapped? ambit takes longitude first",
+    );
+    refused(
+        "SELECT ambit_area(ST_GeomFromText('POLYGON ((40 -100, 40.1 -100, 40.1 -100.1, 40 -100))'));",
+        "vertex 1 (40, -100) has latitude -100, outside [-90, 90], but read the other way round (-100, 40) it is a valid longitude, latitude: are x and y swapped?",
+    );
+    // Projected metres are not mistaken for a swap.
+    let r = shell("SELECT ST_Point(500000, 4500000);");
+    assert!(r.stderr.contains("look projected"), "{}", r.stderr);
+    assert!(!r.stderr.contains("swapped"), "{}", r.stderr);
+}
