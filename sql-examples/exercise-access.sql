@@ -16,8 +16,10 @@
 --
 -- Inputs (tables of the GeoPackage): blocks (geoid, population, geom),
 -- parks (geom), rec_sites and fitness_list (two facility lists to merge),
--- urban_areas (geom). Outputs: build_parameters, facilities, block_access
--- and county_access (both registered as GeoPackage layers, so any GIS
+-- urban_areas (geom). Outputs: build_parameters, facilities,
+-- block_results (one row of ids and results per block, no geometry),
+-- block_access (a view of block_results with the block polygons) and
+-- county_access (all three layers registered in the GeoPackage, so any GIS
 -- opens them), results/county-exercise-access.csv for joining with other
 -- county measures by county_geoid, and results/exercise-access-map.svg.
 --
@@ -100,24 +102,32 @@ SELECT ambit_layer('exercise', geom, (SELECT park_reach_m FROM build_parameters)
 SELECT ambit_layer('exercise', geom, reach_m, 1000000 + fid) FROM facilities;
 
 -- 5. Every block: within reach or not, and the distance to the nearest
--- opportunity (all cores; progress on stderr in a terminal). ---------------
-DROP TABLE IF EXISTS block_access;
-CREATE TABLE block_access (
+-- opportunity (all cores; progress on stderr in a terminal). Only ids and
+-- results are stored: the block geometries stay in blocks, and the layer
+-- block_access (step 7) is a view that joins them back for a GIS, so the
+-- script's extra storage stays small even for a nation's 8 million blocks.
+DROP VIEW IF EXISTS block_access;
+DROP TABLE IF EXISTS block_results;
+CREATE TABLE block_results (
   fid INTEGER PRIMARY KEY,
   geoid TEXT NOT NULL,
   county_geoid TEXT NOT NULL,
   population INTEGER NOT NULL,
   access INTEGER,
-  nearest_m REAL,
-  geom POLYGON
+  nearest_m REAL
 );
-INSERT INTO block_access (fid, geoid, county_geoid, population, access, nearest_m, geom)
-  SELECT b.fid, b.geoid, substr(b.geoid, 1, 5), b.population, s.reached, s.nearest_m, b.geom
+INSERT INTO block_results (fid, geoid, county_geoid, population, access, nearest_m)
+  SELECT b.fid, b.geoid, substr(b.geoid, 1, 5), b.population, s.reached, s.nearest_m
   FROM ambit_sweep('exercise', 'SELECT fid, geom FROM blocks') AS s
   JOIN blocks AS b ON b.fid = s.id;
+CREATE VIEW block_access AS
+  SELECT r.fid, r.geoid, r.county_geoid, r.population, r.access, r.nearest_m, b.geom
+  FROM block_results AS r JOIN blocks AS b ON b.fid = r.fid;
 
 -- 6. The county table: counties by the state+county part of the block id
--- (GEOID characters 1-5). ----------------------------------------------------
+-- (GEOID characters 1-5). The blocks are summed first and the county
+-- polygons joined to the few summed rows, so no block carries a county
+-- polygon through the grouping (which at national size fills the disk).
 DROP TABLE IF EXISTS county_access;
 CREATE TABLE county_access (
   fid INTEGER PRIMARY KEY,
@@ -133,14 +143,16 @@ CREATE TABLE county_access (
 );
 INSERT INTO county_access (county_geoid, county_name, build_year, blocks, blocks_with_access,
                            population, population_with_access, pct_with_access, geom)
-  SELECT a.county_geoid, c.name, (SELECT build_year FROM build_parameters),
-         count(*), sum(a.access), sum(a.population),
-         sum(CASE WHEN a.access = 1 THEN a.population ELSE 0 END),
-         round(100.0 * sum(CASE WHEN a.access = 1 THEN a.population ELSE 0 END)
-               / nullif(sum(a.population), 0), 1),
+  SELECT t.county_geoid, c.name, (SELECT build_year FROM build_parameters),
+         t.blocks, t.blocks_with_access, t.population, t.population_with_access,
+         round(100.0 * t.population_with_access / nullif(t.population, 0), 1),
          c.geom
-  FROM block_access AS a LEFT JOIN counties AS c ON c.geoid = a.county_geoid
-  GROUP BY a.county_geoid ORDER BY a.county_geoid;
+  FROM (SELECT county_geoid, count(*) AS blocks, sum(access) AS blocks_with_access,
+               sum(population) AS population,
+               sum(CASE WHEN access = 1 THEN population ELSE 0 END) AS population_with_access
+        FROM block_results GROUP BY county_geoid) AS t
+  LEFT JOIN counties AS c ON c.geoid = t.county_geoid
+  ORDER BY t.county_geoid;
 
 -- 7. GeoPackage layers, with the cautions in their descriptions. ---------
 SELECT ambit_gpkg_register('block_access', 'geom', 'POLYGON');
