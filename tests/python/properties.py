@@ -51,6 +51,18 @@ KNOWN_FAILING = {
     "refuses_hole_crossing_shell": "fixed by polygon validation",
     "refuses_overlapping_holes": "fixed by polygon validation",
     "refuses_overlapping_parts": "fixed by polygon validation",
+    # A layer feature around a pole (its vertices all below the pole) is
+    # missed for queries nearer the pole than its vertices: ambit_reached,
+    # ambit_count, ambit_near and ambit_nearest disagree with
+    # ambit_distance there (the index's box stops at the vertices).
+    "reached_matches_brute_force_at_poles": "fixed by pole handling in layers",
+    "count_matches_brute_force_at_poles": "fixed by pole handling in layers",
+    "near_matches_brute_force_at_poles": "fixed by pole handling in layers",
+    "nearest_is_least_distance_at_poles": "fixed by pole handling in layers",
+    # A point exactly at a vertex (the end of an edge) is measured a few
+    # picometres to a nanometre away, so ambit_within(.., 0) says 0 and a
+    # reach-0 layer misses a point on its feature's corner.
+    "vertex_touches": "not yet fixed: point-to-edge distance at the edge's ends",
 }
 
 SEED = 20261202
@@ -315,6 +327,15 @@ def geometry(rng, where=None, kinds=None, r=None):
         return ("MULTILINESTRING", [random_walk(rng, *off(rng.uniform(0, 2)), r, continuous)
                                     for _ in range(rng.randint(1, 3))])
     if kind == "POLYGON":
+        if rng.random() < 0.2:
+            # A sector with its apex at the centre: at a pole, a polygon
+            # with a vertex exactly at the pole.
+            a0, span = rng.uniform(0, 360), rng.uniform(20, 170)
+            arc = [dest(lon, lat, a0 + span * t, r, continuous) for t in (0, 0.5, 1)]
+            rings = [[(lon, lat)] + arc + [(lon, lat)]]
+            _CENTRES[id(rings)] = (lon, lat, r, False)
+            _SECTORS.add(id(rings))
+            return ("POLYGON", rings)
         return ("POLYGON", star_polygon(rng, lon, lat, r, continuous))
     # Multipolygon: parts around centres 2.5 r apart on a line, radii <= r.
     parts = []
@@ -390,15 +411,21 @@ def generate(seed):
             g = geometry(rng, near_place(rng, where, 5 * r), r=r * rng.uniform(0.1, 1))
             reach = 0.0 if rng.random() < 0.1 else 10 ** rng.uniform(0, math.log10(2 * r))
             feats.append((fid * 7 + li, reach, g))
+        if where[0] == "pole":
+            # A feature around the pole itself (its vertices all below it).
+            feats[0] = (feats[0][0], feats[0][1], ("POLYGON", star_polygon(rng, where[1], where[2], r, False, holes=0)))
         queries = []
-        for _ in range(N_QUERIES):
+        if where[0] == "pole":
+            queries.append(("POINT", (rng.uniform(-180, 180), where[2])))
+            queries.append(("POLYGON", [star_ring(rng, where[1], where[2], 0.1 * r, 0.5, 1.0, 6, False)]))
+        for _ in range(N_QUERIES - len(queries)):
             queries.append(geometry(rng, near_place(rng, where, 5 * r), r=r * 10 ** rng.uniform(-1, 0.5)))
         # Polygons inside reach of one feature: share must be exactly 1.
         inside = []
         for fid, reach, g in feats:
             if g[0] == "POINT" and reach > 1:
                 inside.append(("POLYGON", [star_ring(rng, g[1][0], g[1][1], reach * 0.5, 0.3, 1.0, 6, False)]))
-            elif g[0] == "POLYGON" and len(g[1]) == 1:
+            elif g[0] == "POLYGON" and len(g[1]) == 1 and not is_sector(g):
                 c = centre_of(g)
                 inside.append(("POLYGON", [star_ring(rng, c[0], c[1], c[2] * 0.3, 0.3, 1.0, 6, False)]))
         layers.append((f"layer{li}", where[0], feats, queries, inside[:6]))
@@ -408,6 +435,11 @@ def generate(seed):
 # The centre and radius each generated polygon was built around (keyed by
 # the identity of its list of rings), for points and queries known inside.
 _CENTRES = {}
+_SECTORS = set()   # polygons whose centre is their apex vertex
+
+
+def is_sector(g):
+    return g[0] == "POLYGON" and id(g[1]) in _SECTORS
 
 
 def centre_of(g):
@@ -542,11 +574,17 @@ def distance_properties(host, props, pairs):
             props.check("distance_self_zero", d == 0.0, tag, f"d(g,g) = {d!r}",
                         lambda g=g: repro_pair(host, shrink((g,), lambda x: host.dist(x, x) != 0.0) * 2,
                                                "SELECT ambit_distance(a, b)"))
-        # A vertex of a geometry is at distance 0 from it (it is on it).
+        # A vertex of a geometry touches it: distance exactly 0 and within
+        # 0 metres (README, ambit_distance: "0 when they touch";
+        # ambit_within: "ties count as within").
         v = ("POINT", vertices(a)[i % len(vertices(a))])
         d = host.dist(a, v)
-        props.check("distance_vertex_zero", d <= DIST_ABS, tag, f"d(a, vertex) = {d!r}",
-                    lambda: repro_pair(host, (a, v), "SELECT ambit_distance(a, b)"))
+        w0 = host.one("SELECT ambit_within(?, ?, 0)", host.blob(a), host.blob(v))
+        props.check("vertex_touches", d == 0.0 and w0 == 1, tag, f"d(a, its vertex) = {d!r}, within 0 m: {w0}",
+                    lambda: repro_pair(host, shrink((a, v), lambda x, y: x[0] == "POINT" or (
+                        y[1] in vertices(x) and (host.dist(x, y) != 0.0 or host.one(
+                            "SELECT ambit_within(?, ?, 0)", host.blob(x), host.blob(y)) != 1))),
+                        "SELECT ambit_distance(a, b), ambit_within(a, b, 0)"))
         # Minimum over b is at most the distance to any vertex of b
         # (definition of a minimum).
         vb = ("POINT", vertices(b)[(7 * i) % len(vertices(b))])
@@ -567,7 +605,7 @@ def distance_properties(host, props, pairs):
         # Polygons: the centre lies inside the shell; in a centred hole it
         # is at a positive distance, otherwise at 0 (the generator's
         # construction, see star_polygon).
-        if a[0] == "POLYGON":
+        if a[0] == "POLYGON" and not is_sector(a):
             lon, lat, r, holed = centre_of(a)
             c = ("POINT", (lon, lat))
             dc = host.dist(c, a)
@@ -719,7 +757,8 @@ def area_properties(host, props, areas, pairs):
         for k, poly in enumerate(polys):
             c = centre_of(("POLYGON", poly))
             shell = poly[0]
-            fan = [("POLYGON", [[c[:2], u, v, c[:2]]]) for u, v in zip(shell, shell[1:])]
+            fan = [("POLYGON", [[c[:2], u, v, c[:2]]]) for u, v in zip(shell, shell[1:])
+                   if c[:2] not in (u, v)]   # a sector's apex is the centre
             whole = area(("POLYGON", poly[:1]))
             pieces = sum(area(t) for t in fan)
             name = "area_fan_sum" + ("_at_poles" if where in ("pole", "high") else "")
@@ -789,6 +828,9 @@ def layer_sql(name, feats):
 def layer_properties(host, props, layers):
     for li, (name, where, feats, queries, inside) in enumerate(layers):
         by_id = {fid: (reach, g) for fid, reach, g in feats}
+        # Layers at high latitudes and the poles report under their own
+        # names, so pole handling can be followed on its own.
+        at = "_at_poles" if where in ("pole", "high") else ""
         for k, g in enumerate(queries + inside):
             tag = f"layer {li} ({where}), query {k} ({g[0]})"
             gb = host.blob(g)
@@ -809,20 +851,20 @@ def layer_properties(host, props, layers):
                 return layer_sql(name, fs) + f"\n{select.replace('G', lit(g))};"
 
             if not tie:
-                props.check("reached_matches_brute_force", reached == (1 if in_reach else 0), tag,
+                props.check("reached_matches_brute_force" + at, reached == (1 if in_reach else 0), tag,
                             f"ambit_reached {reached}, features in reach by ambit_distance: {sorted(in_reach)}",
                             lambda: repro(f"SELECT ambit_reached('{name}', G)"))
-                props.check("count_matches_brute_force", count == len(in_reach), tag,
+                props.check("count_matches_brute_force" + at, count == len(in_reach), tag,
                             f"ambit_count {count}, brute force {len(in_reach)}",
                             lambda: repro(f"SELECT ambit_count('{name}', G)"))
                 ids = sorted(fid for fid, _ in near)
-                props.check("near_matches_brute_force", ids == sorted(in_reach), tag,
+                props.check("near_matches_brute_force" + at, ids == sorted(in_reach), tag,
                             f"ambit_near ids {ids}, brute force {sorted(in_reach)}",
                             lambda: repro(f"SELECT * FROM ambit_near('{name}', G)"))
-            props.check("count_at_least_reached", count >= reached and (count > 0) == (reached == 1), tag,
+            props.check("count_at_least_reached" + at, count >= reached and (count > 0) == (reached == 1), tag,
                         f"count {count}, reached {reached}",
                         lambda: repro(f"SELECT ambit_count('{name}', G), ambit_reached('{name}', G)"))
-            props.check("near_rows_agree_with_count", len(near) == count, tag,
+            props.check("near_rows_agree_with_count" + at, len(near) == count, tag,
                         f"{len(near)} rows, count {count}",
                         lambda: repro(f"SELECT count(*) FROM ambit_near('{name}', G); SELECT ambit_count('{name}', G)"))
             # Each near row: its distance is ambit_distance to that feature
@@ -830,7 +872,7 @@ def layer_properties(host, props, layers):
             ok = all(fid in by_id and close(d, ds[fid], DIST_REL, DIST_ABS)
                      and d <= by_id[fid][0] + DIST_ABS for fid, d in near)
             ok = ok and all(x[1] <= y[1] for x, y in zip(near, near[1:]))
-            props.check("near_rows_are_distances_in_reach", ok, tag,
+            props.check("near_rows_are_distances_in_reach" + at, ok, tag,
                         f"rows {near[:5]}..., distances {[(f, ds.get(f)) for f, _ in near[:5]]}",
                         lambda: repro(f"SELECT * FROM ambit_near('{name}', G)"))
             # Nearest: at most the distance to every feature, and equal to
@@ -838,7 +880,7 @@ def layer_properties(host, props, layers):
             least = min(ds.values())
             ok = nearest is not None and all(nearest <= d + DIST_ABS + DIST_REL * d for d in ds.values())
             ok = ok and close(nearest, least, DIST_REL, DIST_ABS)
-            props.check("nearest_is_least_distance", ok, tag,
+            props.check("nearest_is_least_distance" + at, ok, tag,
                         f"ambit_nearest {nearest!r}, least ambit_distance {least!r}",
                         lambda: repro_min(f"SELECT ambit_nearest('{name}', G)",
                                           lambda fs, gg: not _nearest_ok(host, name, fs, gg)))
@@ -848,13 +890,13 @@ def layer_properties(host, props, layers):
             if abs(m - least) > 2 * DIST_ABS + DIST_REL * least:
                 capped = host.one("SELECT ambit_nearest(?, ?, ?)", name, gb, m)
                 ok = (capped is None) if least > m else (capped is not None and close(capped, least, DIST_REL, DIST_ABS))
-                props.check("nearest_max_m", ok, tag, f"least {least!r}, max_m {m!r}, got {capped!r}",
+                props.check("nearest_max_m" + at, ok, tag, f"least {least!r}, max_m {m!r}, got {capped!r}",
                             lambda: repro(f"SELECT ambit_nearest('{name}', G, {m!r})"))
             if not any(abs(d - m) <= 2 * DIST_ABS + DIST_REL * m for d in ds.values()):
                 cm = host.one("SELECT ambit_count(?, ?, ?)", name, gb, m)
                 nm = host.all("SELECT feature_id FROM ambit_near(?, ?, ?)", name, gb, m)
                 want = sorted(fid for fid, d in ds.items() if d <= m)
-                props.check("count_and_near_with_metres", cm == len(want) and sorted(f for f, in nm) == want, tag,
+                props.check("count_and_near_with_metres" + at, cm == len(want) and sorted(f for f, in nm) == want, tag,
                             f"count {cm}, near {sorted(f for f, in nm)}, brute force {want}",
                             lambda: repro(f"SELECT ambit_count('{name}', G, {m!r}); "
                                           f"SELECT * FROM ambit_near('{name}', G, {m!r})"))
@@ -863,10 +905,10 @@ def layer_properties(host, props, layers):
             # no feature reaches geom"; the covered part then has area).
             if is_areal(g):
                 share = host.one("SELECT ambit_share(?, ?)", name, gb)
-                props.check("share_in_unit_interval", share is not None and 0.0 <= share <= 1.0, tag,
+                props.check("share_in_unit_interval" + at, share is not None and 0.0 <= share <= 1.0, tag,
                             f"share {share!r}", lambda: repro(f"SELECT ambit_share('{name}', G)"))
                 if share is not None and not tie:
-                    props.check("share_zero_iff_unreached", (share == 0.0) == (reached == 0), tag,
+                    props.check("share_zero_iff_unreached" + at, (share == 0.0) == (reached == 0), tag,
                                 f"share {share!r}, reached {reached}",
                                 lambda: repro_min(f"SELECT ambit_share('{name}', G), ambit_reached('{name}', G)",
                                                   lambda fs, gg: not _share_zero_ok(host, name, fs, gg)))
@@ -874,7 +916,7 @@ def layer_properties(host, props, layers):
                     # Built inside one feature's reach (a disc around a
                     # point feature of half its reach, or the middle of a
                     # hole-free polygon feature): exactly 1 (README).
-                    props.check("share_one_inside_reach", share == 1.0, tag, f"share {share!r}",
+                    props.check("share_one_inside_reach" + at, share == 1.0, tag, f"share {share!r}",
                                 lambda: repro(f"SELECT ambit_share('{name}', G), ambit_reached('{name}', G)"))
             else:
                 try:
@@ -882,8 +924,36 @@ def layer_properties(host, props, layers):
                     refused = False
                 except sqlite3.Error:
                     refused = True
-                props.check("share_refuses_points_and_lines", refused, tag, "no error",
+                props.check("share_refuses_points_and_lines" + at, refused, tag, "no error",
                             lambda: repro(f"SELECT ambit_share('{name}', G)"))
+
+
+def order_properties(host, props, layers):
+    """design.md: "Results never depend on the number of threads, the
+    chunk size or the order of rows in the layer": the same features added
+    in the opposite order give the same answers, bit for bit."""
+    for li, (name, where, feats, queries, inside) in enumerate(layers):
+        rev = name + "_reversed"
+        host.one("SELECT ambit_layer(?, g, reach, fid) FROM (SELECT * FROM feat WHERE layer = ? ORDER BY fid DESC)",
+                 rev, name)
+        for k, g in enumerate(queries):
+            gb = host.blob(g)
+
+            def answers(layer):
+                return (host.one("SELECT ambit_reached(?, ?)", layer, gb),
+                        host.one("SELECT ambit_count(?, ?)", layer, gb),
+                        bits(host.one("SELECT ambit_nearest(?, ?)", layer, gb)),
+                        bits(host.one("SELECT ambit_share(?, ?)", layer, gb)) if is_areal(g) else None,
+                        sorted((f, bits(d)) for f, d in host.all(
+                            "SELECT feature_id, distance_m FROM ambit_near(?, ?)", layer, gb)))
+
+            a, b = answers(name), answers(rev)
+            props.check("layer_answers_independent_of_feature_order", a == b,
+                        f"layer {li} ({where}), query {k} ({g[0]})", f"in order {a[:4]}, reversed {b[:4]}",
+                        lambda g=g: layer_sql(name, feats) + "\n" + layer_sql(rev, feats[::-1])
+                        + f"\nSELECT ambit_nearest('{name}', G), ambit_nearest('{rev}', G),\n"
+                        f"  ambit_share('{name}', G), ambit_share('{rev}', G);".replace("G", lit(g)))
+        host.one("SELECT ambit_layer_drop(?)", rev)
 
 
 def _nearest_ok(host, name, feats, g):
@@ -1155,6 +1225,7 @@ def main(argv):
     t = time.time()
     build_layers(host, layers)
     layer_properties(host, props, layers)
+    order_properties(host, props, layers)
     timings["layers"] = time.time() - t
     t = time.time()
     sweep_properties(host, props, layers, library, seed)
