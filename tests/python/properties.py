@@ -825,107 +825,142 @@ def layer_sql(name, feats):
     return f"SELECT ambit_layer('{name}', g, reach, fid) FROM (\n  {rows});"
 
 
+def layer_checks(host, name, feats, g, inside, factor):
+    """Every layer property for one query `g` of the layer `name` built from
+    `feats`: a list of (property, holds, message, SQL with {L} for the
+    layer and {G} for the query). `inside` says g was built within one
+    feature's reach; `factor` scales the least distance into a `metres`
+    argument."""
+    out = []
+    by_id = {fid: (reach, fg) for fid, reach, fg in feats}
+    gb = host.blob(g)
+    # Brute force: every feature's distance through ambit_distance.
+    ds = {fid: host.dist(g, fg) for fid, reach, fg in feats}
+    in_reach = {fid for fid, reach, _ in feats if ds[fid] <= reach}
+    tie = any(abs(ds[fid] - reach) <= 2 * DIST_ABS + DIST_REL * reach for fid, reach, _ in feats)
+    reached = host.one("SELECT ambit_reached(?, ?)", name, gb)
+    count = host.one("SELECT ambit_count(?, ?)", name, gb)
+    nearest = host.one("SELECT ambit_nearest(?, ?)", name, gb)
+    near = host.all("SELECT feature_id, distance_m FROM ambit_near(?, ?)", name, gb)
+    dist_sql = "SELECT fid, ambit_distance({G}, g) FROM feat;  -- brute force, with the features in a table feat"
+    if not tie:
+        out.append(("reached_matches_brute_force", reached == (1 if in_reach else 0),
+                    f"ambit_reached {reached}, features in reach by ambit_distance: {sorted(in_reach)}",
+                    "SELECT ambit_reached('{L}', {G});"))
+        out.append(("count_matches_brute_force", count == len(in_reach),
+                    f"ambit_count {count}, brute force {len(in_reach)}", "SELECT ambit_count('{L}', {G});"))
+        ids = sorted(fid for fid, _ in near)
+        out.append(("near_matches_brute_force", ids == sorted(in_reach),
+                    f"ambit_near ids {ids}, brute force {sorted(in_reach)}",
+                    "SELECT * FROM ambit_near('{L}', {G});"))
+    out.append(("count_at_least_reached", count >= reached and (count > 0) == (reached == 1),
+                f"count {count}, reached {reached}", "SELECT ambit_count('{L}', {G}), ambit_reached('{L}', {G});"))
+    out.append(("near_rows_agree_with_count", len(near) == count, f"{len(near)} rows, count {count}",
+                "SELECT count(*) FROM ambit_near('{L}', {G});\nSELECT ambit_count('{L}', {G});"))
+    # Each near row: its distance is ambit_distance to that feature and
+    # within the feature's reach; rows nearest first (README, ambit_near).
+    ok = all(fid in by_id and close(d, ds[fid], DIST_REL, DIST_ABS)
+             and d <= by_id[fid][0] + DIST_ABS for fid, d in near)
+    ok = ok and all(x[1] <= y[1] for x, y in zip(near, near[1:]))
+    out.append(("near_rows_are_distances_in_reach", ok,
+                f"rows {near[:5]}, distances {[(f, ds.get(f)) for f, _ in near[:5]]}",
+                "SELECT * FROM ambit_near('{L}', {G});"))
+    # Nearest: at most the distance to every feature, and equal to the
+    # least (definition of a minimum; brute force).
+    least = min(ds.values())
+    ok = nearest is not None and all(nearest <= d + DIST_ABS + DIST_REL * d for d in ds.values())
+    ok = ok and close(nearest, least, DIST_REL, DIST_ABS)
+    out.append(("nearest_is_least_distance", ok, f"ambit_nearest {nearest!r}, least ambit_distance {least!r}",
+                "SELECT ambit_nearest('{L}', {G});"))
+    # nearest with max_m: NULL exactly when the least distance is beyond
+    # max_m; ambit_count and ambit_near with metres = brute force.
+    m = least * factor
+    if abs(m - least) > 2 * DIST_ABS + DIST_REL * least:
+        capped = host.one("SELECT ambit_nearest(?, ?, ?)", name, gb, m)
+        ok = (capped is None) if least > m else (capped is not None and close(capped, least, DIST_REL, DIST_ABS))
+        out.append(("nearest_max_m", ok, f"least {least!r}, max_m {m!r}, got {capped!r}",
+                    f"SELECT ambit_nearest('{{L}}', {{G}}, {m!r});"))
+    if not any(abs(d - m) <= 2 * DIST_ABS + DIST_REL * m for d in ds.values()):
+        cm = host.one("SELECT ambit_count(?, ?, ?)", name, gb, m)
+        nm = sorted(f for f, in host.all("SELECT feature_id FROM ambit_near(?, ?, ?)", name, gb, m))
+        want = sorted(fid for fid, d in ds.items() if d <= m)
+        out.append(("count_and_near_with_metres", cm == len(want) and nm == want,
+                    f"count {cm}, near {nm}, brute force {want}",
+                    f"SELECT ambit_count('{{L}}', {{G}}, {m!r});\nSELECT * FROM ambit_near('{{L}}', {{G}}, {m!r});"))
+    if is_areal(g):
+        # Share of a polygon: in [0, 1]; exactly 0 when nothing is reached,
+        # and not 0 when something is (README, ambit_share: "exactly 0 when
+        # no feature reaches geom"; a reached polygon has a covered part of
+        # positive area unless it only touches, a tie excluded here).
+        share = host.one("SELECT ambit_share(?, ?)", name, gb)
+        out.append(("share_in_unit_interval", share is not None and 0.0 <= share <= 1.0, f"share {share!r}",
+                    "SELECT ambit_share('{L}', {G});"))
+        if share is not None and not tie:
+            out.append(("share_zero_iff_unreached", (share == 0.0) == (reached == 0),
+                        f"share {share!r}, reached {reached}",
+                        "SELECT ambit_share('{L}', {G}), ambit_reached('{L}', {G});"))
+        if inside:
+            # Built inside one feature's reach (a disc around a point
+            # feature of half its reach, or the middle of a hole-free
+            # polygon feature): exactly 1 (README, ambit_share).
+            out.append(("share_one_inside_reach", share == 1.0, f"share {share!r}",
+                        "SELECT ambit_share('{L}', {G});"))
+    else:
+        try:
+            host.one("SELECT ambit_share(?, ?)", name, gb)
+            refused = False
+        except sqlite3.Error:
+            refused = True
+        out.append(("share_refuses_points_and_lines", refused, "no error", "SELECT ambit_share('{L}', {G});"))
+    for i, (prop, ok, msg, sql) in enumerate(out):
+        if not ok and "brute" in prop:
+            out[i] = (prop, ok, msg, sql + "\n" + dist_sql)
+    return out
+
+
 def layer_properties(host, props, layers):
     for li, (name, where, feats, queries, inside) in enumerate(layers):
-        by_id = {fid: (reach, g) for fid, reach, g in feats}
         # Layers at high latitudes and the poles report under their own
         # names, so pole handling can be followed on its own.
         at = "_at_poles" if where in ("pole", "high") else ""
         for k, g in enumerate(queries + inside):
             tag = f"layer {li} ({where}), query {k} ({g[0]})"
-            gb = host.blob(g)
-            # Brute force: every feature's distance through ambit_distance.
-            ds = {fid: host.dist(g, fg) for fid, reach, fg in feats}
-            in_reach = {fid for fid, reach, _ in feats if ds[fid] <= reach}
-            tie = any(abs(ds[fid] - reach) <= 2 * DIST_ABS + DIST_REL * reach for fid, reach, _ in feats)
-            reached = host.one("SELECT ambit_reached(?, ?)", name, gb)
-            count = host.one("SELECT ambit_count(?, ?)", name, gb)
-            nearest = host.one("SELECT ambit_nearest(?, ?)", name, gb)
-            near = host.all("SELECT feature_id, distance_m FROM ambit_near(?, ?)", name, gb)
+            is_inside = k >= len(queries)
+            factor = random.Random(li * 1000 + k).uniform(0.5, 1.5)
+            for prop, ok, msg, _ in layer_checks(host, name, feats, g, is_inside, factor):
+                props.check(prop + at, ok, tag, msg,
+                            lambda prop=prop, g=g, is_inside=is_inside, factor=factor:
+                            layer_repro(host, name, feats, g, is_inside, factor, prop))
 
-            def repro(select, g=g):
-                return layer_sql(name, feats) + f"\n{select.replace('G', lit(g))};"
 
-            def repro_min(select, fails, g=g):
-                fs = shrink_features(host, name, feats, g, fails)
-                return layer_sql(name, fs) + f"\n{select.replace('G', lit(g))};"
+def with_layer(host, feats, action):
+    """Runs action(name) on a temporary layer of `feats`, then drops it."""
+    tmp = "shrink_tmp"
+    host.one("SELECT ambit_layer_drop(?)", tmp)
+    host.conn.executemany("INSERT INTO feat VALUES (?, ?, ?, ?)", [(tmp, f, r, host.blob(x)) for f, r, x in feats])
+    try:
+        host.one("SELECT ambit_layer(?, g, reach, fid) FROM feat WHERE layer = ?", tmp, tmp)
+        return action(tmp)
+    finally:
+        host.conn.execute("DELETE FROM feat WHERE layer = ?", (tmp,))
+        host.one("SELECT ambit_layer_drop(?)", tmp)
 
-            if not tie:
-                props.check("reached_matches_brute_force" + at, reached == (1 if in_reach else 0), tag,
-                            f"ambit_reached {reached}, features in reach by ambit_distance: {sorted(in_reach)}",
-                            lambda: repro(f"SELECT ambit_reached('{name}', G)"))
-                props.check("count_matches_brute_force" + at, count == len(in_reach), tag,
-                            f"ambit_count {count}, brute force {len(in_reach)}",
-                            lambda: repro(f"SELECT ambit_count('{name}', G)"))
-                ids = sorted(fid for fid, _ in near)
-                props.check("near_matches_brute_force" + at, ids == sorted(in_reach), tag,
-                            f"ambit_near ids {ids}, brute force {sorted(in_reach)}",
-                            lambda: repro(f"SELECT * FROM ambit_near('{name}', G)"))
-            props.check("count_at_least_reached" + at, count >= reached and (count > 0) == (reached == 1), tag,
-                        f"count {count}, reached {reached}",
-                        lambda: repro(f"SELECT ambit_count('{name}', G), ambit_reached('{name}', G)"))
-            props.check("near_rows_agree_with_count" + at, len(near) == count, tag,
-                        f"{len(near)} rows, count {count}",
-                        lambda: repro(f"SELECT count(*) FROM ambit_near('{name}', G); SELECT ambit_count('{name}', G)"))
-            # Each near row: its distance is ambit_distance to that feature
-            # and within the feature's reach; rows nearest first.
-            ok = all(fid in by_id and close(d, ds[fid], DIST_REL, DIST_ABS)
-                     and d <= by_id[fid][0] + DIST_ABS for fid, d in near)
-            ok = ok and all(x[1] <= y[1] for x, y in zip(near, near[1:]))
-            props.check("near_rows_are_distances_in_reach" + at, ok, tag,
-                        f"rows {near[:5]}..., distances {[(f, ds.get(f)) for f, _ in near[:5]]}",
-                        lambda: repro(f"SELECT * FROM ambit_near('{name}', G)"))
-            # Nearest: at most the distance to every feature, and equal to
-            # the least (definition of a minimum; brute force).
-            least = min(ds.values())
-            ok = nearest is not None and all(nearest <= d + DIST_ABS + DIST_REL * d for d in ds.values())
-            ok = ok and close(nearest, least, DIST_REL, DIST_ABS)
-            props.check("nearest_is_least_distance" + at, ok, tag,
-                        f"ambit_nearest {nearest!r}, least ambit_distance {least!r}",
-                        lambda: repro_min(f"SELECT ambit_nearest('{name}', G)",
-                                          lambda fs, gg: not _nearest_ok(host, name, fs, gg)))
-            # nearest with max_m: NULL exactly when the least distance is
-            # beyond max_m; ambit_count with metres = brute force.
-            m = least * random.Random(li * 1000 + k).uniform(0.5, 1.5)
-            if abs(m - least) > 2 * DIST_ABS + DIST_REL * least:
-                capped = host.one("SELECT ambit_nearest(?, ?, ?)", name, gb, m)
-                ok = (capped is None) if least > m else (capped is not None and close(capped, least, DIST_REL, DIST_ABS))
-                props.check("nearest_max_m" + at, ok, tag, f"least {least!r}, max_m {m!r}, got {capped!r}",
-                            lambda: repro(f"SELECT ambit_nearest('{name}', G, {m!r})"))
-            if not any(abs(d - m) <= 2 * DIST_ABS + DIST_REL * m for d in ds.values()):
-                cm = host.one("SELECT ambit_count(?, ?, ?)", name, gb, m)
-                nm = host.all("SELECT feature_id FROM ambit_near(?, ?, ?)", name, gb, m)
-                want = sorted(fid for fid, d in ds.items() if d <= m)
-                props.check("count_and_near_with_metres" + at, cm == len(want) and sorted(f for f, in nm) == want, tag,
-                            f"count {cm}, near {sorted(f for f, in nm)}, brute force {want}",
-                            lambda: repro(f"SELECT ambit_count('{name}', G, {m!r}); "
-                                          f"SELECT * FROM ambit_near('{name}', G, {m!r})"))
-            # Share of a polygon: in [0, 1]; exactly 0 when nothing is
-            # reached, and not 0 when something is (README: "exactly 0 when
-            # no feature reaches geom"; the covered part then has area).
-            if is_areal(g):
-                share = host.one("SELECT ambit_share(?, ?)", name, gb)
-                props.check("share_in_unit_interval" + at, share is not None and 0.0 <= share <= 1.0, tag,
-                            f"share {share!r}", lambda: repro(f"SELECT ambit_share('{name}', G)"))
-                if share is not None and not tie:
-                    props.check("share_zero_iff_unreached" + at, (share == 0.0) == (reached == 0), tag,
-                                f"share {share!r}, reached {reached}",
-                                lambda: repro_min(f"SELECT ambit_share('{name}', G), ambit_reached('{name}', G)",
-                                                  lambda fs, gg: not _share_zero_ok(host, name, fs, gg)))
-                if k >= len(queries):
-                    # Built inside one feature's reach (a disc around a
-                    # point feature of half its reach, or the middle of a
-                    # hole-free polygon feature): exactly 1 (README).
-                    props.check("share_one_inside_reach" + at, share == 1.0, tag, f"share {share!r}",
-                                lambda: repro(f"SELECT ambit_share('{name}', G), ambit_reached('{name}', G)"))
-            else:
-                try:
-                    host.one("SELECT ambit_share(?, ?)", name, gb)
-                    refused = False
-                except sqlite3.Error:
-                    refused = True
-                props.check("share_refuses_points_and_lines" + at, refused, tag, "no error",
-                            lambda: repro(f"SELECT ambit_share('{name}', G)"))
+
+def layer_repro(host, name, feats, g, inside, factor, prop):
+    """The SQL of a failing layer property, with the fewest features and
+    the simplest query geometry for which it still fails."""
+    def failing(fs, gg):
+        res = with_layer(host, fs, lambda tmp: layer_checks(host, tmp, fs, gg, inside, factor))
+        return [r for r in res if r[0] == prop and not r[1]]
+
+    fs = shrink_features(host, name, feats, g, lambda f, gg: bool(failing(f, gg)))
+    gg = shrink((g,), lambda x: bool(failing(fs, x)), budget=80)[0]
+    last = failing(fs, gg)
+    sql = last[0][3] if last else "-- (no longer fails when rebuilt)"
+    table = ("CREATE TABLE feat(fid, reach, g);\nINSERT INTO feat VALUES "
+             + ",\n  ".join(f"({fid}, {reach!r}, {lit(x)})" for fid, reach, x in fs) + ";\n")
+    return (table + f"SELECT ambit_layer('{name}', g, reach, fid) FROM feat;\n"
+            + sql.replace("{L}", name).replace("{G}", lit(gg)))
 
 
 def order_properties(host, props, layers):
@@ -954,30 +989,6 @@ def order_properties(host, props, layers):
                         + f"\nSELECT ambit_nearest('{name}', G), ambit_nearest('{rev}', G),\n"
                         f"  ambit_share('{name}', G), ambit_share('{rev}', G);".replace("G", lit(g)))
         host.one("SELECT ambit_layer_drop(?)", rev)
-
-
-def _nearest_ok(host, name, feats, g):
-    tmp = name + "_shrink"
-    host.one("SELECT ambit_layer_drop(?)", tmp)
-    host.conn.executemany("INSERT INTO feat VALUES (?, ?, ?, ?)", [(tmp, f, r, host.blob(x)) for f, r, x in feats])
-    host.one("SELECT ambit_layer(?, g, reach, fid) FROM feat WHERE layer = ?", tmp, tmp)
-    host.conn.execute("DELETE FROM feat WHERE layer = ?", (tmp,))
-    n = host.one("SELECT ambit_nearest(?, ?)", tmp, host.blob(g))
-    least = min(host.dist(g, x) for _, _, x in feats)
-    host.one("SELECT ambit_layer_drop(?)", tmp)
-    return n is not None and close(n, least, DIST_REL, DIST_ABS)
-
-
-def _share_zero_ok(host, name, feats, g):
-    tmp = name + "_shrink"
-    host.one("SELECT ambit_layer_drop(?)", tmp)
-    host.conn.executemany("INSERT INTO feat VALUES (?, ?, ?, ?)", [(tmp, f, r, host.blob(x)) for f, r, x in feats])
-    host.one("SELECT ambit_layer(?, g, reach, fid) FROM feat WHERE layer = ?", tmp, tmp)
-    host.conn.execute("DELETE FROM feat WHERE layer = ?", (tmp,))
-    s = host.one("SELECT ambit_share(?, ?)", tmp, host.blob(g))
-    r = host.one("SELECT ambit_reached(?, ?)", tmp, host.blob(g))
-    host.one("SELECT ambit_layer_drop(?)", tmp)
-    return (s == 0.0) == (r == 0)
 
 
 def shrink_features(host, name, feats, g, fails, budget=60):
