@@ -107,8 +107,17 @@ pub fn python_check(script: &str) -> String {
 
 /// [`python_check`] with more arguments after the library's path.
 pub fn python_check_with(script: &str, more: &[&str]) -> String {
+    python_check_in("python3", script, more)
+}
+
+/// Debian's own Python: its sqlite3 module is built on the system SQLite
+/// (3.40.1, the library of the stock shell) with extension loading.
+pub const SYSTEM_PYTHON: &str = "/usr/bin/python3";
+
+/// [`python_check_with`] run by the interpreter `python`.
+pub fn python_check_in(python: &str, script: &str, more: &[&str]) -> String {
     let path = format!("{}/tests/python/{script}", env!("CARGO_MANIFEST_DIR"));
-    let out = Command::new("python3")
+    let out = Command::new(python)
         .arg(&path)
         .arg(library())
         .args(more)
