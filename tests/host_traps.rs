@@ -59,26 +59,29 @@ fn distances_with_their_unit_equal_the_same_distance_in_metres() {
 }
 
 #[test]
-fn a_bare_number_below_one_metre_is_refused_as_a_unit_slip() {
+fn a_bare_reach_below_one_metre_is_refused_as_a_unit_slip() {
     // The trap: a reach of 0.5 meant as miles built a layer that reached
     // nothing, silently.
     refused(
         "SELECT ambit_layer('parks', ST_Point(1, 2), 0.5);",
-        "ambit_layer: argument 3 (reach_m): 0.5 metres is almost certainly a unit slip (bare numbers are metres): write '0.5 mi' for 0.5 miles",
+        "ambit_layer: argument 3 (reach_m): a reach of 0.5 metres is almost certainly a unit slip (bare numbers are metres): write '0.5 mi' for 0.5 miles",
     );
+    // A column of reaches in kilometres: refused at its first row, and the
+    // layer is not left half built.
     refused(
-        "SELECT ambit_within(ST_Point(1, 2), ST_Point(1, 2), 0.25);",
-        "ambit_within: argument 3 (metres): 0.25 metres is almost certainly a unit slip",
-    );
-    refused(
-        "SELECT ambit_layer('p', ST_Point(1, 2)); SELECT ambit_count('p', ST_Point(1, 2), 0.5);",
-        "ambit_count: argument 3 (metres): 0.5 metres is almost certainly a unit slip",
+        "CREATE TABLE f(geom, reach_km); INSERT INTO f VALUES (ST_Point(1, 2), 0.8), (ST_Point(1, 3), 1.6);
+         SELECT ambit_layer('clinics', geom, reach_km) FROM f;",
+        "a reach of 0.8 metres is almost certainly a unit slip",
     );
     // Half a metre stays possible, said explicitly; 0 and whole metres are
-    // plain numbers.
+    // plain numbers; computed distances elsewhere (a tolerance in
+    // ambit_within, the metres of ambit_count) are taken as they are.
     assert_eq!(
-        query("SELECT ambit_within(ST_Point(1, 2), ST_Point(1, 2), '0.5 m'), ambit_within(ST_Point(1, 2), ST_Point(1, 2), 0), ambit_within(ST_Point(1, 2), ST_Point(1, 2), 1);"),
-        "1|1|1"
+        query(
+            "SELECT ambit_layer('a', ST_Point(1, 2), '0.5 m'), ambit_layer('b', ST_Point(1, 2), 0), ambit_layer('c', ST_Point(1, 2), 1);
+             SELECT ambit_within(ST_Point(1, 2), ST_Point(1, 2), 0.25), ambit_count('c', ST_Point(1, 2), 0.5);"
+        ),
+        "1|1|1\n1|1"
     );
 }
 

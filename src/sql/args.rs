@@ -211,10 +211,8 @@ impl<'a> Args<'a> {
     /// A distance argument, in metres: a number of metres, or text with
     /// its unit (`'0.5 mi'`, `'800 m'`, `'3 km'`, `'2640 ft'`; see
     /// [`crate::units::parse_length`]); NULL gives `None`. Refused, with a
-    /// message saying what to write: negative or non-finite distances,
-    /// text without a unit, and a bare number strictly between 0 and 1,
-    /// which is almost always a distance in miles or kilometres passed
-    /// where metres are taken (write `'0.5 m'` to mean half a metre).
+    /// message saying what to write: negative or non-finite distances and
+    /// text without a unit.
     pub fn distance(&self, i: usize) -> rusqlite::Result<Option<f64>> {
         let metres = match self.raw(i) {
             ValueRef::Text(t) => {
@@ -224,14 +222,6 @@ impl<'a> Args<'a> {
             }
             _ => match self.number(i)? {
                 None => return Ok(None),
-                Some(m) if m > 0.0 && m < 1.0 => {
-                    return Err(self.fail_arg(
-                        i,
-                        format!(
-                            "{m} metres is almost certainly a unit slip (bare numbers are metres): write '{m} mi' for {m} miles, '{m} km' for kilometres, or '{m} m' if you do mean metres"
-                        ),
-                    ))
-                }
                 Some(m) => m,
             },
         };
@@ -242,6 +232,29 @@ impl<'a> Args<'a> {
             ));
         }
         Ok(Some(metres))
+    }
+
+    /// A feature's reach, as [`Args::distance`], and also refusing a bare
+    /// number strictly between 0 and 1: a reach of `0.5` is almost always
+    /// half a mile or kilometre passed where metres are taken, and a layer
+    /// built with it would reach (nearly) nothing without a word. Write
+    /// `'0.5 m'` to mean half a metre.
+    pub fn reach(&self, i: usize) -> rusqlite::Result<Option<f64>> {
+        if let Some(m) = match self.raw(i) {
+            ValueRef::Integer(v) => Some(v as f64),
+            ValueRef::Real(v) => Some(v),
+            _ => None,
+        } {
+            if m > 0.0 && m < 1.0 {
+                return Err(self.fail_arg(
+                    i,
+                    format!(
+                        "a reach of {m} metres is almost certainly a unit slip (bare numbers are metres): write '{m} mi' for {m} miles, '{m} km' for kilometres, or '{m} m' if you do mean metres"
+                    ),
+                ));
+            }
+        }
+        self.distance(i)
     }
 
     /// The integer of argument `i`; NULL gives `None`. A real with a

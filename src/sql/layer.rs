@@ -167,7 +167,7 @@ impl LayerBuilder {
             }
             Some(_) => {}
         }
-        let reach = distance_arg(args, 2)?.unwrap_or(0.0);
+        let reach = args.reach(2)?.unwrap_or(0.0);
         let id = match args.len() {
             4 => args
                 .integer(3)?
