@@ -124,6 +124,12 @@ pub enum GeomError {
     NotJsonObject {
         found: String,
     },
+    /// Memory for a geometry of `bytes` bytes could not be had (the host's
+    /// memory limit); ambit reports it instead of aborting the process.
+    TooLarge {
+        what: &'static str,
+        bytes: usize,
+    },
 }
 
 impl fmt::Display for GeomError {
@@ -229,6 +235,10 @@ impl fmt::Display for GeomError {
             NotJsonObject { found } => write!(
                 f,
                 "must be a JSON object such as json_object(...) returns (RFC 7946, section 3.2), got {found}"
+            ),
+            TooLarge { what, bytes } => write!(
+                f,
+                "geometry too large for available memory: could not allocate {bytes} bytes for {what}; split it into smaller geometries or raise the memory limit of the process"
             ),
         }
     }
