@@ -276,6 +276,18 @@ impl Writer {
     }
 }
 
+/// `read` applied to each of `items`, into a vector reserved fallibly.
+fn each<T>(
+    items: &[Value],
+    mut read: impl FnMut(&Value) -> Result<T, GeomError>,
+) -> Result<Vec<T>, GeomError> {
+    let mut out = memory::vec_with_capacity(items.len(), "the parsed GeoJSON")?;
+    for v in items {
+        out.push(read(v)?);
+    }
+    Ok(out)
+}
+
 fn error(message: String) -> GeomError {
     GeomError::GeoJson { message }
 }
@@ -439,10 +451,9 @@ impl Reader {
                     )))
                 }
             };
-            let members = members
-                .iter()
-                .map(|m| self.geometry(m, "each member of a GeometryCollection", depth + 1))
-                .collect::<Result<_, _>>()?;
+            let members = each(members, |m| {
+                self.geometry(m, "each member of a GeometryCollection", depth + 1)
+            })?;
             return Ok(Geometry::new(
                 Dimensions::Xy,
                 Shape::GeometryCollection(members),
@@ -456,24 +467,18 @@ impl Reader {
             GeometryType::Point => Shape::Point(self.point(c, ty_name, whole)?),
             GeometryType::LineString => Shape::LineString(self.line(c, ty_name, whole)?),
             GeometryType::Polygon => Shape::Polygon(self.rings(c, ty_name, whole)?),
-            GeometryType::MultiPoint => Shape::MultiPoint(
-                array(c, ty_name, whole, "an array of positions")?
-                    .iter()
-                    .map(|p| self.point(p, ty_name, Whose::Element("position")))
-                    .collect::<Result<_, _>>()?,
-            ),
-            GeometryType::MultiLineString => Shape::MultiLineString(
-                array(c, ty_name, whole, "an array of line strings")?
-                    .iter()
-                    .map(|l| self.line(l, ty_name, Whose::Element("line string")))
-                    .collect::<Result<_, _>>()?,
-            ),
-            GeometryType::MultiPolygon => Shape::MultiPolygon(
-                array(c, ty_name, whole, "an array of polygons")?
-                    .iter()
-                    .map(|p| self.rings(p, ty_name, Whose::Element("polygon")))
-                    .collect::<Result<_, _>>()?,
-            ),
+            GeometryType::MultiPoint => Shape::MultiPoint(each(
+                array(c, ty_name, whole, "an array of positions")?,
+                |p| self.point(p, ty_name, Whose::Element("position")),
+            )?),
+            GeometryType::MultiLineString => Shape::MultiLineString(each(
+                array(c, ty_name, whole, "an array of line strings")?,
+                |l| self.line(l, ty_name, Whose::Element("line string")),
+            )?),
+            GeometryType::MultiPolygon => Shape::MultiPolygon(each(
+                array(c, ty_name, whole, "an array of polygons")?,
+                |p| self.rings(p, ty_name, Whose::Element("polygon")),
+            )?),
             GeometryType::GeometryCollection => Shape::GeometryCollection(Vec::new()),
         };
         // Placeholder dimensions; `from_value` sets the settled ones.
@@ -513,10 +518,9 @@ impl Reader {
 
     /// A polygon's rings.
     fn rings(&mut self, v: &Value, ty: &'static str, whose: Whose) -> Result<Vec<Part>, GeomError> {
-        array(v, ty, whose, "an array of rings")?
-            .iter()
-            .map(|r| self.line(r, ty, Whose::Element("ring")))
-            .collect()
+        each(array(v, ty, whose, "an array of rings")?, |r| {
+            self.line(r, ty, Whose::Element("ring"))
+        })
     }
 
     /// One position (RFC 7946 section 3.1.1), appended to `part`.
