@@ -492,7 +492,7 @@ impl Reader {
             Whose::Element(_) => "an array of 2 or 3 numbers (or [] for an empty point)",
         };
         let numbers = array(v, ty, whose, expected)?;
-        let mut part = Vec::new();
+        let mut part = memory::vec_with_capacity(numbers.len().min(3), "the parsed GeoJSON")?;
         if !numbers.is_empty() {
             self.position(numbers, ty, &mut part)?;
         }
