@@ -297,6 +297,38 @@ SELECT 'still here', ST_AsText(ST_Point(1, 2));",
 }
 
 #[test]
+fn oversized_results_are_sql_errors_under_a_memory_limit() {
+    // Issue 13 (2026-12-02), the writers: a valid line of 5 M points, each
+    // ordinate the bytes "00000000" (0x30 x 8 = 1.39e-76 as a little-endian
+    // double, by the IEEE 754 binary64 layout), is an 80 MB blob whose WKT
+    // writes each ordinate without an exponent in about 95 characters
+    // (about 1 GB of text): over the limit, an SQL error. Its GeoJSON
+    // rounds every ordinate to 0 at 9 decimals ("[0,0]," per point, 30 MB)
+    // and fits. 5 000 000 = 0x004C4B40.
+    let line = "CAST(X'0102000000' || X'404B4C00' || replace(hex(zeroblob(5000000)), '00', '0000000000000000') AS BLOB)";
+    let run = shell_under_limit(
+        1_000_000,
+        &format!(
+            "SELECT length(ST_AsText({line}));
+SELECT length(ambit_to_geojson({line}));
+SELECT 'still here';"
+        ),
+    );
+    assert_eq!(run.stdout, "30000037\nstill here\n", "{}", run.stderr);
+    let wkt = format!("Runtime error near line 2: ST_AsText: argument 1 (geom): {TOO_LARGE} ");
+    assert!(run.stderr.starts_with(&wkt), "{}", run.stderr);
+    assert!(run
+        .stderr
+        .ends_with(&format!("bytes for its WKT text; {ADVICE}\n")));
+    // 30 000 037 = the 38 bytes of {"type":"LineString","coordinates":[]}
+    // plus 6 per point, less the last comma: brute-force count below.
+    assert_eq!(
+        r#"{"type":"LineString","coordinates":[]}"#.len() + 6 * 5_000_000 - 1,
+        30_000_037
+    );
+}
+
+#[test]
 fn text_with_a_nul_byte_is_refused_by_name() {
     // Regression, issue 13 (2026-12-02): these gave a bare "SQL logic
     // error", because the message quoted the NUL and SQLite cannot take a
