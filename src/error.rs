@@ -127,6 +127,12 @@ pub enum GeomError {
     /// The computation was interrupted (sqlite3_interrupt, Ctrl-C) before
     /// it finished; nothing it would have changed was changed.
     Interrupted,
+    /// Memory for a geometry of `bytes` bytes could not be had (the host's
+    /// memory limit); ambit reports it instead of aborting the process.
+    TooLarge {
+        what: &'static str,
+        bytes: usize,
+    },
 }
 
 impl fmt::Display for GeomError {
@@ -243,6 +249,10 @@ impl fmt::Display for GeomError {
                 "must be a JSON object such as json_object(...) returns (RFC 7946, section 3.2), got {found}"
             ),
             Interrupted => write!(f, "interrupted"),
+            TooLarge { what, bytes } => write!(
+                f,
+                "geometry too large for available memory: could not allocate {bytes} bytes for {what}; split it into smaller geometries or raise the memory limit of the process"
+            ),
         }
     }
 }

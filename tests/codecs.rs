@@ -6,6 +6,11 @@
 //!   GeoJSON text round-trips through blobs.
 //! - Truncated, bit-flipped and random blobs and texts give errors, never a
 //!   panic, and never allocate beyond what the input could hold.
+//! - In the stock sqlite3 shell under a memory limit (bash's `ulimit -v`),
+//!   forged counts and geometries too large for memory are SQL errors and
+//!   the shell goes on; text holding a NUL byte is refused by name.
+
+mod common;
 
 use ambit::blob::{self, geojson, gpkg, wkb as ambit_wkb, wkt};
 use ambit::geometry::{Dimensions, Geometry, Shape};
@@ -206,4 +211,143 @@ fn hostile_text_never_panics() {
             let _ = geojson::parse(&json[..cut]);
         }
     }
+}
+
+/// Runs `sql` in the sqlite3 shell with ambit loaded, under a limit of
+/// `kib` KiB of address space (bash's `ulimit -v`), as an analyst's shell
+/// on a shared server may run.
+fn shell_under_limit(kib: u64, sql: &str) -> common::ShellRun {
+    use std::io::Write;
+    use std::process::{Command, Stdio};
+    let mut child = Command::new("bash")
+        .arg("-c")
+        .arg(format!(
+            "ulimit -v {kib} && exec {} :memory:",
+            common::SHELL
+        ))
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .expect("bash runs");
+    let script = format!(
+        ".load {}\n{sql}\n",
+        common::library().with_extension("").display()
+    );
+    child
+        .stdin
+        .take()
+        .expect("stdin")
+        .write_all(script.as_bytes())
+        .expect("write to the shell");
+    let out = child.wait_with_output().expect("shell output");
+    common::ShellRun {
+        status: out.status.code().unwrap_or(-1),
+        stdout: String::from_utf8_lossy(&out.stdout).into_owned(),
+        stderr: String::from_utf8_lossy(&out.stderr).into_owned(),
+    }
+}
+
+const TOO_LARGE: &str = "geometry too large for available memory: could not allocate";
+const ADVICE: &str = "split it into smaller geometries or raise the memory limit of the process";
+
+#[test]
+fn oversized_geometries_are_sql_errors_under_a_memory_limit() {
+    // Regression, issue 13 (2026-12-02): under `ulimit -v 1000000` the
+    // shell aborted ("memory allocation of 1200000000 bytes failed") on a
+    // 150 MB collection whose header announces 30 M members. Each case
+    // below must be an SQL error, and the shell must go on to the last
+    // line. Sizes: 40 M rings reserve 40 M x 24 bytes (a Vec<f64> each) =
+    // 960 MB, which with the blob itself exceeds 1 GB; 30 M empty
+    // positions are 90 MB of text whose JSON tree alone is over 1 GB.
+    let run = shell_under_limit(
+        1_000_000,
+        "SELECT length(ST_GeomFromWKB(CAST(X'0107000000' || X'80C3C901' || zeroblob(150000000) AS BLOB)));
+SELECT length(ST_GeomFromWKB(CAST(X'0103000000' || X'005A6202' || zeroblob(160000000) AS BLOB)));
+SELECT length(ambit_from_geojson('{\"type\":\"MultiPoint\",\"coordinates\":[' || replace(hex(zeroblob(30000000)), '00', '[],') || '[]]}'));
+SELECT length(ST_GeomFromText('MULTIPOINT (' || replace(hex(zeroblob(30000000)), '00', 'EMPTY,') || 'EMPTY)'));
+SELECT 'still here', ST_AsText(ST_Point(1, 2));",
+    );
+    assert_eq!(run.stdout, "still here|POINT (1 2)\n", "{}", run.stderr);
+    assert_eq!(
+        run.status, 1,
+        "an error status, not an abort: {}",
+        run.stderr
+    );
+    let lines: Vec<&str> = run.stderr.lines().collect();
+    assert_eq!(lines.len(), 4, "{}", run.stderr);
+    // 30 000 000 = 0x01C9C380; 30 M members need 9 bytes each (270 MB).
+    assert_eq!(
+        lines[0],
+        "Runtime error near line 2: ST_GeomFromWKB: argument 1 (wkb): corrupt WKB: 30000000 geometries announced at byte 5 cannot fit in the blob"
+    );
+    // 40 000 000 = 0x02625A00 rings of 24 bytes.
+    assert_eq!(
+        lines[1],
+        format!("Runtime error near line 3: ST_GeomFromWKB: argument 1 (wkb): {TOO_LARGE} 960000000 bytes for a polygon's rings; {ADVICE}")
+    );
+    let geojson = format!(
+        "Runtime error near line 4: ambit_from_geojson: argument 1 (geojson): {TOO_LARGE} "
+    );
+    assert!(lines[2].starts_with(&geojson), "{}", lines[2]);
+    assert!(lines[2].ends_with(&format!("bytes for the parsed GeoJSON; {ADVICE}")));
+    let wkt = format!("Runtime error near line 5: ST_GeomFromText: argument 1 (wkt): {TOO_LARGE} ");
+    assert!(lines[3].starts_with(&wkt), "{}", lines[3]);
+    assert!(lines[3].ends_with(&format!("bytes for the parsed WKT; {ADVICE}")));
+}
+
+#[test]
+fn oversized_results_are_sql_errors_under_a_memory_limit() {
+    // Issue 13 (2026-12-02), the writers: a valid line of 5 M points, each
+    // ordinate the bytes "00000000" (0x30 x 8 = 1.39e-76 as a little-endian
+    // double, by the IEEE 754 binary64 layout), is an 80 MB blob whose WKT
+    // writes each ordinate without an exponent in about 95 characters
+    // (about 1 GB of text): over the limit, an SQL error. Its GeoJSON
+    // rounds every ordinate to 0 at 9 decimals ("[0,0]," per point, 30 MB)
+    // and fits. 5 000 000 = 0x004C4B40.
+    let line = "CAST(X'0102000000' || X'404B4C00' || replace(hex(zeroblob(5000000)), '00', '0000000000000000') AS BLOB)";
+    let run = shell_under_limit(
+        1_000_000,
+        &format!(
+            "SELECT length(ST_AsText({line}));
+SELECT length(ambit_to_geojson({line}));
+SELECT 'still here';"
+        ),
+    );
+    assert_eq!(run.stdout, "30000037\nstill here\n", "{}", run.stderr);
+    let wkt = format!("Runtime error near line 2: ST_AsText: argument 1 (geom): {TOO_LARGE} ");
+    assert!(run.stderr.starts_with(&wkt), "{}", run.stderr);
+    assert!(run
+        .stderr
+        .ends_with(&format!("bytes for its WKT text; {ADVICE}\n")));
+    // 30 000 037 = the 38 bytes of {"type":"LineString","coordinates":[]}
+    // plus 6 per point, less the last comma: brute-force count below.
+    assert_eq!(
+        r#"{"type":"LineString","coordinates":[]}"#.len() + 6 * 5_000_000 - 1,
+        30_000_037
+    );
+}
+
+#[test]
+fn text_with_a_nul_byte_is_refused_by_name() {
+    // Regression, issue 13 (2026-12-02): these gave a bare "SQL logic
+    // error", because the message quoted the NUL and SQLite cannot take a
+    // message holding one.
+    let run = common::shell(
+        "SELECT ST_GeomFromText('POINT (1 2)' || char(0) || 'x');
+SELECT ambit_from_geojson('{\"type\":\"Point\",\"coordinates\":[1,2]}' || char(0));
+SELECT ST_GeomFromText(char(0));
+SELECT ST_X(ST_GeomFromWKB('ab' || char(0) || 'c'));
+SELECT 'still here';",
+    );
+    assert_eq!(run.stdout, "still here\n");
+    assert_eq!(
+        run.stderr.lines().collect::<Vec<_>>(),
+        [
+            "Runtime error near line 2: ST_GeomFromText: argument 1 (wkt): contains a NUL byte at offset 11; remove it (text ends there in most programs)",
+            "Runtime error near line 3: ambit_from_geojson: argument 1 (geojson): contains a NUL byte at offset 36; remove it (text ends there in most programs)",
+            "Runtime error near line 4: ST_GeomFromText: argument 1 (wkt): contains a NUL byte at offset 0; remove it (text ends there in most programs)",
+            "Runtime error near line 5: ST_GeomFromWKB: argument 1 (wkb): must be a geometry blob, got text 'ab\\0c'; build one with ST_GeomFromText or ambit_from_geojson",
+        ]
+    );
 }

@@ -39,7 +39,7 @@
 //! geometry without any position (an empty one) cannot be told in
 //! GeoJSON: it reads back as XY.
 
-use crate::blob::MAX_NESTING;
+use crate::blob::{memory, MAX_NESTING};
 use crate::error::GeomError;
 use crate::geometry::{Dimensions, Geometry, GeometryType, Part, Shape};
 use serde_json::{Map, Value};
@@ -59,6 +59,7 @@ pub const MAX_DECIMALS: usize = 15;
 /// Never panics; every failure is a [`GeomError::GeoJson`]. See the module
 /// documentation for what is accepted.
 pub fn parse(text: &str) -> Result<Option<Geometry>, GeomError> {
+    check_room(text)?;
     let value: Value = serde_json::from_str(text).map_err(|e| {
         let hint = if e.to_string().starts_with("recursion limit exceeded") {
             " (arrays and objects nested 128 deep; GeometryCollections may nest at most \
@@ -69,6 +70,35 @@ pub fn parse(text: &str) -> Result<Option<Geometry>, GeomError> {
         error(format!("invalid JSON: {e}{hint}"))
     })?;
     from_value(&value)
+}
+
+/// Checks, before `serde_json` builds its tree (whose allocations abort
+/// the process when they fail), that memory for the tree `text` can give
+/// is to be had: one [`Value`] per value (at most one per `[`, `{` and `,`,
+/// plus one), an object entry per `:`, the text's bytes for strings, and
+/// half as much again for vectors growing by doubling. The reservation is
+/// released at once; failing it is [`GeomError::TooLarge`].
+fn check_room(text: &str) -> Result<(), GeomError> {
+    memory::vec_with_capacity::<u8>(room_needed(text), "the parsed GeoJSON").map(drop)
+}
+
+/// The bytes [`check_room`] asks for `text`.
+fn room_needed(text: &str) -> usize {
+    let mut values = 1usize;
+    let mut entries = 0usize;
+    for &b in text.as_bytes() {
+        match b {
+            b'[' | b'{' | b',' => values += 1,
+            b':' => entries += 1,
+            _ => {}
+        }
+    }
+    let value = std::mem::size_of::<Value>();
+    let entry = value + std::mem::size_of::<String>() + 2 * std::mem::size_of::<usize>();
+    let tree = values
+        .saturating_mul(value)
+        .saturating_add(entries.saturating_mul(entry));
+    tree.saturating_add(tree / 2).saturating_add(text.len())
 }
 
 /// Writes `g` as a compact GeoJSON Geometry object (RFC 7946 section 3.1)
@@ -84,7 +114,23 @@ pub fn parse(text: &str) -> Result<Option<Geometry>, GeomError> {
 /// `0.000001`. NaN and infinities,
 /// which JSON cannot hold, are written as `null`. M values are dropped.
 /// Collections are written without recursion, however deep.
+///
+/// Aborts like any Rust allocation when memory runs out: the SQL functions
+/// use [`try_write`].
 pub fn write(g: &Geometry, decimals: usize) -> String {
+    try_write(g, decimals).unwrap_or_else(|e| memory::abort(&e))
+}
+
+/// Room for the punctuation and type name written between two checks.
+const SLACK: usize = 64;
+/// The longest `{}` or `{:.15}` form of an f64 (no exponent: 5e-324 is
+/// written with 323 zeros, f64::MAX with 309 digits), plus a separator.
+const MAX_NUMBER: usize = 330;
+const WHAT: &str = "its GeoJSON text";
+
+/// [`fn@write`], or [`GeomError::TooLarge`] when the text cannot be
+/// allocated. The text grows only through fallible reservations.
+pub fn try_write(g: &Geometry, decimals: usize) -> Result<String, GeomError> {
     enum Item<'a> {
         Geom(&'a Geometry),
         Text(&'static str),
@@ -98,6 +144,7 @@ pub fn write(g: &Geometry, decimals: usize) -> String {
     };
     let mut stack = vec![Item::Geom(g)];
     while let Some(item) = stack.pop() {
+        memory::reserve_text(&mut w.out, SLACK, WHAT)?;
         let g = match item {
             Item::Text(s) => {
                 w.out.push_str(s);
@@ -111,10 +158,13 @@ pub fn write(g: &Geometry, decimals: usize) -> String {
         w.out.push_str(g.geometry_type().geojson_name());
         if let Shape::GeometryCollection(members) = &g.shape {
             w.out.push_str("\",\"geometries\":[");
+            memory::grow(&mut stack, WHAT)?;
             stack.push(Item::Text("]}"));
             for (i, m) in members.iter().enumerate().rev() {
+                memory::grow(&mut stack, WHAT)?;
                 stack.push(Item::Geom(m));
                 if i > 0 {
+                    memory::grow(&mut stack, WHAT)?;
                     stack.push(Item::Text(","));
                 }
             }
@@ -122,20 +172,21 @@ pub fn write(g: &Geometry, decimals: usize) -> String {
         }
         w.out.push_str("\",\"coordinates\":");
         match &g.shape {
-            Shape::Point(p) => w.position(p),
-            Shape::LineString(p) => w.line(p),
+            Shape::Point(p) => w.position(p)?,
+            Shape::LineString(p) => w.line(p)?,
             Shape::Polygon(rings) | Shape::MultiLineString(rings) => {
-                w.list(rings, |w, r| w.line(r))
+                w.list(rings, |w, r| w.line(r))?
             }
-            Shape::MultiPoint(points) => w.list(points, |w, p| w.position(p)),
+            Shape::MultiPoint(points) => w.list(points, |w, p| w.position(p))?,
             Shape::MultiPolygon(polygons) => {
-                w.list(polygons, |w, rings| w.list(rings, |w, r| w.line(r)))
+                w.list(polygons, |w, rings| w.list(rings, |w, r| w.line(r)))?
             }
             Shape::GeometryCollection(_) => {}
         }
+        memory::reserve_text(&mut w.out, SLACK, WHAT)?;
         w.out.push('}');
     }
-    w.out
+    Ok(w.out)
 }
 
 /// The output and the settings of the geometry being written.
@@ -152,31 +203,44 @@ struct Writer {
 
 impl Writer {
     /// `[a,b,...]` with `item` writing each element.
-    fn list<T>(&mut self, items: &[T], mut item: impl FnMut(&mut Self, &T)) {
+    fn list<T>(
+        &mut self,
+        items: &[T],
+        mut item: impl FnMut(&mut Self, &T) -> Result<(), GeomError>,
+    ) -> Result<(), GeomError> {
+        memory::reserve_text(&mut self.out, SLACK, WHAT)?;
         self.out.push('[');
         for (i, x) in items.iter().enumerate() {
+            memory::reserve_text(&mut self.out, SLACK, WHAT)?;
             if i > 0 {
                 self.out.push(',');
             }
-            item(self, x);
+            item(self, x)?;
         }
+        memory::reserve_text(&mut self.out, SLACK, WHAT)?;
         self.out.push(']');
+        Ok(())
     }
 
     /// The positions of a line string or ring.
-    fn line(&mut self, part: &[f64]) {
+    fn line(&mut self, part: &[f64]) -> Result<(), GeomError> {
+        memory::reserve_text(&mut self.out, SLACK, WHAT)?;
         self.out.push('[');
         for (i, v) in part.chunks(self.width).enumerate() {
+            memory::reserve_text(&mut self.out, SLACK, WHAT)?;
             if i > 0 {
                 self.out.push(',');
             }
-            self.position(v);
+            self.position(v)?;
         }
+        memory::reserve_text(&mut self.out, SLACK, WHAT)?;
         self.out.push(']');
+        Ok(())
     }
 
     /// One position, `[]` for an empty point.
-    fn position(&mut self, v: &[f64]) {
+    fn position(&mut self, v: &[f64]) -> Result<(), GeomError> {
+        memory::reserve_text(&mut self.out, SLACK + 3 * MAX_NUMBER, WHAT)?;
         self.out.push('[');
         for (i, &x) in v.iter().take(self.keep).enumerate() {
             if i > 0 {
@@ -185,6 +249,7 @@ impl Writer {
             self.number(x);
         }
         self.out.push(']');
+        Ok(())
     }
 
     /// One number: Rust's shortest round-trip form when it has at most
@@ -209,6 +274,18 @@ impl Writer {
         }
         self.out.push_str(if s == "-0" { "0" } else { s });
     }
+}
+
+/// `read` applied to each of `items`, into a vector reserved fallibly.
+fn each<T>(
+    items: &[Value],
+    mut read: impl FnMut(&Value) -> Result<T, GeomError>,
+) -> Result<Vec<T>, GeomError> {
+    let mut out = memory::vec_with_capacity(items.len(), "the parsed GeoJSON")?;
+    for v in items {
+        out.push(read(v)?);
+    }
+    Ok(out)
 }
 
 fn error(message: String) -> GeomError {
@@ -374,10 +451,9 @@ impl Reader {
                     )))
                 }
             };
-            let members = members
-                .iter()
-                .map(|m| self.geometry(m, "each member of a GeometryCollection", depth + 1))
-                .collect::<Result<_, _>>()?;
+            let members = each(members, |m| {
+                self.geometry(m, "each member of a GeometryCollection", depth + 1)
+            })?;
             return Ok(Geometry::new(
                 Dimensions::Xy,
                 Shape::GeometryCollection(members),
@@ -391,24 +467,18 @@ impl Reader {
             GeometryType::Point => Shape::Point(self.point(c, ty_name, whole)?),
             GeometryType::LineString => Shape::LineString(self.line(c, ty_name, whole)?),
             GeometryType::Polygon => Shape::Polygon(self.rings(c, ty_name, whole)?),
-            GeometryType::MultiPoint => Shape::MultiPoint(
-                array(c, ty_name, whole, "an array of positions")?
-                    .iter()
-                    .map(|p| self.point(p, ty_name, Whose::Element("position")))
-                    .collect::<Result<_, _>>()?,
-            ),
-            GeometryType::MultiLineString => Shape::MultiLineString(
-                array(c, ty_name, whole, "an array of line strings")?
-                    .iter()
-                    .map(|l| self.line(l, ty_name, Whose::Element("line string")))
-                    .collect::<Result<_, _>>()?,
-            ),
-            GeometryType::MultiPolygon => Shape::MultiPolygon(
-                array(c, ty_name, whole, "an array of polygons")?
-                    .iter()
-                    .map(|p| self.rings(p, ty_name, Whose::Element("polygon")))
-                    .collect::<Result<_, _>>()?,
-            ),
+            GeometryType::MultiPoint => Shape::MultiPoint(each(
+                array(c, ty_name, whole, "an array of positions")?,
+                |p| self.point(p, ty_name, Whose::Element("position")),
+            )?),
+            GeometryType::MultiLineString => Shape::MultiLineString(each(
+                array(c, ty_name, whole, "an array of line strings")?,
+                |l| self.line(l, ty_name, Whose::Element("line string")),
+            )?),
+            GeometryType::MultiPolygon => Shape::MultiPolygon(each(
+                array(c, ty_name, whole, "an array of polygons")?,
+                |p| self.rings(p, ty_name, Whose::Element("polygon")),
+            )?),
             GeometryType::GeometryCollection => Shape::GeometryCollection(Vec::new()),
         };
         // Placeholder dimensions; `from_value` sets the settled ones.
@@ -422,7 +492,7 @@ impl Reader {
             Whose::Element(_) => "an array of 2 or 3 numbers (or [] for an empty point)",
         };
         let numbers = array(v, ty, whose, expected)?;
-        let mut part = Vec::new();
+        let mut part = memory::vec_with_capacity(numbers.len().min(3), "the parsed GeoJSON")?;
         if !numbers.is_empty() {
             self.position(numbers, ty, &mut part)?;
         }
@@ -432,7 +502,8 @@ impl Reader {
     /// The positions of a line string or ring.
     fn line(&mut self, v: &Value, ty: &'static str, whose: Whose) -> Result<Part, GeomError> {
         let positions = array(v, ty, whose, "an array of positions")?;
-        let mut part = Vec::with_capacity(positions.len().saturating_mul(3));
+        let mut part =
+            memory::vec_with_capacity(positions.len().saturating_mul(3), "the parsed GeoJSON")?;
         for p in positions {
             let numbers = array(
                 p,
@@ -447,10 +518,9 @@ impl Reader {
 
     /// A polygon's rings.
     fn rings(&mut self, v: &Value, ty: &'static str, whose: Whose) -> Result<Vec<Part>, GeomError> {
-        array(v, ty, whose, "an array of rings")?
-            .iter()
-            .map(|r| self.line(r, ty, Whose::Element("ring")))
-            .collect()
+        each(array(v, ty, whose, "an array of rings")?, |r| {
+            self.line(r, ty, Whose::Element("ring"))
+        })
     }
 
     /// One position (RFC 7946 section 3.1.1), appended to `part`.
@@ -713,6 +783,42 @@ mod tests {
         // An empty geometry has no position to tell its dimensions by.
         let z_empty = wkt::parse("POINT Z EMPTY").expect("valid WKT");
         assert_eq!(ok(&write(&z_empty, 9)).dims, Dimensions::Xy);
+    }
+
+    #[test]
+    fn writer_reservations_hold_the_longest_numbers() {
+        // `{}` and `{:.15}` never use an exponent (std::fmt docs): the
+        // extremes are the longest forms. Brute force over them.
+        for x in [f64::MAX, -f64::MAX, 5e-324, -5e-324] {
+            assert!(format!("{x}").len() < MAX_NUMBER, "{x}");
+            assert!(format!("{x:.15}").len() < MAX_NUMBER, "{x}");
+        }
+        let g = Geometry::new(
+            Dimensions::Xyz,
+            Shape::MultiPoint(vec![vec![-f64::MAX, -5e-324, -f64::MAX], vec![]]),
+        );
+        let text = try_write(&g, MAX_DECIMALS).unwrap();
+        assert_eq!(text, write(&g, MAX_DECIMALS));
+        assert!(parse(&text).unwrap().is_some());
+    }
+
+    #[test]
+    fn the_room_check_counts_every_value() {
+        // A MultiPoint of n empty positions is a tree of at least n + 4
+        // JSON values and 2 object entries (brute-force count of the text
+        // below); the check asks for at least their bytes, and for
+        // the text's own bytes.
+        let value = std::mem::size_of::<Value>();
+        for n in [0usize, 1, 10, 1000] {
+            let text = format!(
+                r#"{{"type":"MultiPoint","coordinates":[{}]}}"#,
+                vec!["[]"; n].join(",")
+            );
+            let needed = room_needed(&text);
+            assert!(needed >= (n + 4) * value + text.len(), "n = {n}");
+            assert!(needed <= 3 * (2 * n + 4) * (value + 48) + text.len());
+            assert!(check_room(&text).is_ok());
+        }
     }
 
     #[test]

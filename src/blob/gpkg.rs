@@ -12,9 +12,9 @@
 //! geometry gets the empty flag and no envelope (code 0), which Requirement
 //! 149 allows.
 
-use crate::blob::wkb;
+use crate::blob::{memory, wkb};
 use crate::error::GeomError;
-use crate::geometry::Geometry;
+use crate::geometry::{Envelope, Geometry};
 
 const FORMAT: &str = "GeoPackage geometry";
 /// The two magic bytes, 'G' 'P'.
@@ -130,16 +130,43 @@ pub fn read(buf: &[u8]) -> Result<(Geometry, Header), GeomError> {
 /// A GeoPackage geometry blob for `g`: little-endian header, version 1,
 /// `srs_id`, an XY envelope (none, with the empty flag, for an empty
 /// geometry), then little-endian ISO WKB.
+///
+/// Aborts like any Rust allocation when memory runs out: the SQL functions
+/// use [`try_write`].
 pub fn write(g: &Geometry, srs_id: i32) -> Vec<u8> {
     let envelope = g.envelope();
-    let env_len = if envelope.is_some() { 32 } else { 0 };
-    let mut out = Vec::with_capacity(HEADER_LEN + env_len + wkb::encoded_len(g));
+    let mut out = Vec::with_capacity(encoded_len(g, envelope.is_some()));
+    write_into(g, srs_id, envelope, &mut out);
+    out
+}
+
+/// [`fn@write`], or [`GeomError::TooLarge`] when the blob's bytes cannot be
+/// allocated.
+pub fn try_write(g: &Geometry, srs_id: i32) -> Result<Vec<u8>, GeomError> {
+    let envelope = g.envelope();
+    let len = encoded_len(g, envelope.is_some());
+    let mut out = memory::vec_with_capacity(len, "its GeoPackage blob")?;
+    write_into(g, srs_id, envelope, &mut out);
+    Ok(out)
+}
+
+/// The exact length of the blob, with or without an XY envelope.
+fn encoded_len(g: &Geometry, with_envelope: bool) -> usize {
+    HEADER_LEN + if with_envelope { 32 } else { 0 } + wkb::encoded_len(g)
+}
+
+fn write_into(g: &Geometry, srs_id: i32, envelope: Option<Envelope>, out: &mut Vec<u8>) {
     out.extend_from_slice(&MAGIC);
     out.push(0);
-    let flags = match envelope {
-        Some(_) => FLAG_LITTLE_ENDIAN | (1 << 1),
-        None => FLAG_LITTLE_ENDIAN | FLAG_EMPTY,
-    };
+    // The empty flag says what the WKB holds. A geometry whose vertices
+    // are all NaN is not empty but has no envelope (code 0).
+    let mut flags = FLAG_LITTLE_ENDIAN;
+    if envelope.is_some() {
+        flags |= 1 << 1;
+    }
+    if g.is_empty() {
+        flags |= FLAG_EMPTY;
+    }
     out.push(flags);
     out.extend_from_slice(&srs_id.to_le_bytes());
     if let Some(e) = envelope {
@@ -147,8 +174,7 @@ pub fn write(g: &Geometry, srs_id: i32) -> Vec<u8> {
             out.extend_from_slice(&v.to_le_bytes());
         }
     }
-    wkb::write_into(g, &mut out);
-    out
+    wkb::write_into(g, out);
 }
 
 #[cfg(test)]
@@ -178,6 +204,29 @@ mod tests {
         let (back, h) = read(&blob).unwrap();
         assert!(h.empty && h.envelope.is_none());
         assert_eq!(back, g);
+    }
+
+    #[test]
+    fn all_nan_vertices_are_not_flagged_empty() {
+        // Regression, issue 13 (2026-12-02), found reviewing the writer for
+        // the round-trip fuzz target: a line whose vertices are all NaN has
+        // no envelope, and the writer took "no envelope" for "empty", set
+        // the empty flag, and then refused its own blob (GpkgEmptyFlag).
+        // Such blobs decode (only decode_valid refuses NaN), so
+        // ST_IsEmpty-style description must see them as written.
+        let g = Geometry::new(
+            Dimensions::Xy,
+            Shape::LineString(vec![f64::NAN, f64::NAN, f64::NAN, f64::NAN]),
+        );
+        let blob = write(&g, 4326);
+        assert_eq!(
+            blob[3], 0b0000_0001,
+            "little endian, no envelope, not empty"
+        );
+        let (back, h) = read(&blob).unwrap();
+        assert!(!h.empty && h.envelope.is_none());
+        assert_eq!(wkb::write(&back), wkb::write(&g));
+        assert_eq!(try_write(&g, 4326).unwrap(), blob);
     }
 
     #[test]

@@ -10,6 +10,7 @@
 pub mod geojson;
 pub mod gpkg;
 pub mod gpkg_tables;
+pub mod memory;
 pub mod wkb;
 pub mod wkt;
 
@@ -117,10 +118,11 @@ pub fn summary(buf: &[u8]) -> Result<Summary, GeomError> {
     })
 }
 
-/// A GeoPackage blob for a geometry after checking it for `srs_id`.
+/// A GeoPackage blob for a geometry after checking it for `srs_id`;
+/// [`GeomError::TooLarge`] when its bytes cannot be allocated.
 pub fn encode_valid(geometry: &Geometry, srs_id: i32) -> Result<Vec<u8>, GeomError> {
     validate::validate(geometry, srs_id.into())?;
-    Ok(gpkg::write(geometry, srs_id))
+    gpkg::try_write(geometry, srs_id)
 }
 
 #[cfg(test)]

@@ -5,8 +5,11 @@
 //! (1-7, plus 1000 for Z, 2000 for M, 3000 for ZM), either byte order, and
 //! mixed byte orders inside multi-geometries and collections (every nested
 //! geometry carries its own byte-order byte, 06-103r4 clause 8.2.3). Counts
-//! are checked against the bytes left before anything is allocated, so a
-//! corrupt count cannot make ambit allocate gigabytes. A Point whose x and y
+//! are checked against the bytes left before anything is allocated (each
+//! member needs at least the bytes of its smallest encoding), so a corrupt
+//! count cannot make ambit allocate gigabytes; what a count does allow is
+//! reserved fallibly (see [`crate::blob::memory`]), so a geometry too large
+//! for the memory the host may use is an error, not an abort. A Point whose x and y
 //! are both NaN is POINT EMPTY (OGC 12-128, note under Requirement 19).
 //! Collections may nest at most [`MAX_NESTING`] levels.
 //!
@@ -18,6 +21,7 @@
 //! reports the byte offset of each problem. The crate is used in the tests
 //! as an independent reader of what this module writes.
 
+use crate::blob::memory;
 use crate::error::GeomError;
 use crate::geometry::{Dimensions, Geometry, GeometryType, Part, Shape};
 
@@ -142,18 +146,18 @@ impl Cursor<'_> {
 
     fn coords(&mut self, n: usize, width: usize, what: &'static str) -> Result<Part, GeomError> {
         let big = self.big_endian;
-        let bytes = self.take(n * width * 8, what)?;
-        Ok(bytes
-            .chunks_exact(8)
-            .map(|c| {
-                let b: [u8; 8] = c.try_into().expect("8 bytes");
-                if big {
-                    f64::from_be_bytes(b)
-                } else {
-                    f64::from_le_bytes(b)
-                }
-            })
-            .collect())
+        let len = n.saturating_mul(width * 8);
+        let bytes = self.take(len, what)?;
+        let mut part = memory::vec_with_capacity(len / 8, what)?;
+        part.extend(bytes.chunks_exact(8).map(|c| {
+            let b: [u8; 8] = c.try_into().expect("8 bytes");
+            if big {
+                f64::from_be_bytes(b)
+            } else {
+                f64::from_le_bytes(b)
+            }
+        }));
+        Ok(part)
     }
 
     fn point_body(&mut self, width: usize) -> Result<Part, GeomError> {
@@ -171,13 +175,13 @@ impl Cursor<'_> {
     }
 
     fn polygon_body(&mut self, width: usize) -> Result<Vec<Part>, GeomError> {
-        let rings = self.count("rings", 4)?;
-        (0..rings)
-            .map(|_| {
-                let n = self.count("ring points", width * 8)?;
-                self.coords(n, width, "a ring's points")
-            })
-            .collect()
+        let n = self.count("rings", 4)?;
+        let mut rings = memory::vec_with_capacity(n, "a polygon's rings")?;
+        for _ in 0..n {
+            let points = self.count("ring points", width * 8)?;
+            rings.push(self.coords(points, width, "a ring's points")?);
+        }
+        Ok(rings)
     }
 
     /// Reads a nested member, which must be of type `expected` and have the
@@ -216,7 +220,7 @@ impl Cursor<'_> {
             GeometryType::Polygon => Shape::Polygon(self.polygon_body(width)?),
             GeometryType::MultiPoint => {
                 let n = self.count("points", 5 + width * 8)?;
-                let mut members = Vec::with_capacity(n);
+                let mut members = memory::vec_with_capacity(n, "a multipoint's points")?;
                 for _ in 0..n {
                     self.member(kind, GeometryType::Point, dims)?;
                     members.push(self.point_body(width)?);
@@ -225,7 +229,7 @@ impl Cursor<'_> {
             }
             GeometryType::MultiLineString => {
                 let n = self.count("line strings", 9)?;
-                let mut members = Vec::with_capacity(n);
+                let mut members = memory::vec_with_capacity(n, "a multilinestring's members")?;
                 for _ in 0..n {
                     self.member(kind, GeometryType::LineString, dims)?;
                     members.push(self.line_body(width)?);
@@ -234,7 +238,7 @@ impl Cursor<'_> {
             }
             GeometryType::MultiPolygon => {
                 let n = self.count("polygons", 9)?;
-                let mut members = Vec::with_capacity(n);
+                let mut members = memory::vec_with_capacity(n, "a multipolygon's members")?;
                 for _ in 0..n {
                     self.member(kind, GeometryType::Polygon, dims)?;
                     members.push(self.polygon_body(width)?);
@@ -242,8 +246,10 @@ impl Cursor<'_> {
                 Shape::MultiPolygon(members)
             }
             GeometryType::GeometryCollection => {
-                let n = self.count("geometries", 5)?;
-                let mut members = Vec::with_capacity(n);
+                // The smallest member is an empty collection, multi-geometry,
+                // line string or polygon: a header and a zero count.
+                let n = self.count("geometries", 9)?;
+                let mut members = memory::vec_with_capacity(n, "a collection's members")?;
                 for _ in 0..n {
                     let offset = self.pos;
                     let member = self.geometry(depth + 1)?;
@@ -259,11 +265,20 @@ impl Cursor<'_> {
     }
 }
 
-/// Little-endian ISO WKB for `g`.
+/// Little-endian ISO WKB for `g`. Aborts like any Rust allocation when
+/// memory runs out: the SQL functions use [`try_write`].
 pub fn write(g: &Geometry) -> Vec<u8> {
     let mut out = Vec::with_capacity(encoded_len(g));
     write_into(g, &mut out);
     out
+}
+
+/// Little-endian ISO WKB for `g`, or [`GeomError::TooLarge`] when its
+/// [`encoded_len`] bytes cannot be allocated.
+pub fn try_write(g: &Geometry) -> Result<Vec<u8>, GeomError> {
+    let mut out = memory::vec_with_capacity(encoded_len(g), "its WKB")?;
+    write_into(g, &mut out);
+    Ok(out)
 }
 
 /// Appends little-endian ISO WKB for `g` to `out`.
@@ -469,6 +484,71 @@ mod tests {
             read_exact(&hex("01 01000000 000000000000F03F 000000000000F03F 00")),
             Err(GeomError::TrailingBytes { extra: 1, .. })
         ));
+    }
+
+    /// A header announcing 30 M members in a 100-byte blob, for every type
+    /// with a count.
+    fn forged(code: u32) -> Vec<u8> {
+        let mut buf = vec![1];
+        buf.extend_from_slice(&code.to_le_bytes());
+        buf.extend_from_slice(&30_000_000u32.to_le_bytes());
+        buf.resize(100, 0);
+        buf
+    }
+
+    #[test]
+    fn forged_counts_fail_before_any_allocation() {
+        // Issue 13 (2026-12-02): 30 M members in a 100-byte blob are refused
+        // by the count check, whatever the type and dimensions.
+        for dims in [0u32, 1000, 2000, 3000] {
+            for base in 2..=7u32 {
+                assert!(
+                    matches!(
+                        read_exact(&forged(base + dims)),
+                        Err(GeomError::ImpossibleCount {
+                            count: 30_000_000,
+                            offset: 5,
+                            ..
+                        })
+                    ),
+                    "type code {}",
+                    base + dims
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn collection_members_need_nine_bytes_each() {
+        // Regression, issue 13 (2026-12-02): a 150 MB collection announcing
+        // 30 M members passed a 5-bytes-per-member check and reserved 30 M
+        // geometries (1.2 GB) before reading any, aborting the host under a
+        // memory limit. The smallest member (an empty collection, line
+        // string or polygon: byte order, type, zero count) has 9 bytes, so
+        // n members need 9 n bytes; counted here at a small scale.
+        let mut buf = hex("01 07000000 04000000");
+        buf.resize(9 + 4 * 9 - 1, 0);
+        assert!(matches!(
+            read_exact(&buf),
+            Err(GeomError::ImpossibleCount { count: 4, .. })
+        ));
+        let mut ok = hex("01 07000000 04000000");
+        for _ in 0..4 {
+            ok.extend_from_slice(&hex("01 07000000 00000000"));
+        }
+        assert_eq!(read_exact(&ok).unwrap().shape, {
+            let empty = Geometry::new(Dimensions::Xy, Shape::GeometryCollection(vec![]));
+            Shape::GeometryCollection(vec![empty; 4])
+        });
+    }
+
+    #[test]
+    fn try_write_matches_write() {
+        let g = Geometry::new(
+            Dimensions::Xyz,
+            Shape::MultiPoint(vec![vec![1.0, 2.0, 3.0], vec![]]),
+        );
+        assert_eq!(try_write(&g).unwrap(), write(&g));
     }
 
     #[test]

@@ -43,7 +43,7 @@
 //! Members of a collection repeat the tag: `GEOMETRYCOLLECTION Z (POINT Z
 //! (1 2 3))`.
 
-use crate::blob::MAX_NESTING;
+use crate::blob::{memory, MAX_NESTING};
 use crate::error::GeomError;
 use crate::geometry::{Dimensions, Geometry, GeometryType, Part, Shape};
 use std::fmt::Write as _;
@@ -82,7 +82,24 @@ pub fn parse(text: &str) -> Result<Geometry, GeomError> {
 /// For finite coordinates `parse(&write(g))` gives back `g` exactly. NaN
 /// and infinities are written as `NaN`, `inf` and `-inf`, which [`parse()`]
 /// refuses. Collections are written without recursion, however deep.
+///
+/// Aborts like any Rust allocation when memory runs out: the SQL functions
+/// use [`try_write`].
 pub fn write(g: &Geometry) -> String {
+    try_write(g).unwrap_or_else(|e| memory::abort(&e))
+}
+
+/// Room for the punctuation, keyword and tag written between two checks
+/// (`GEOMETRYCOLLECTION ZM (` is 23 bytes).
+const SLACK: usize = 64;
+/// The longest `{}` form of an f64 (no exponent: 5e-324 is written with
+/// 323 zeros, f64::MAX with 309 digits), plus a separator.
+const MAX_NUMBER: usize = 330;
+const WHAT: &str = "its WKT text";
+
+/// [`fn@write`], or [`GeomError::TooLarge`] when the text cannot be
+/// allocated. The text grows only through fallible reservations.
+pub fn try_write(g: &Geometry) -> Result<String, GeomError> {
     enum Item<'a> {
         Geom(&'a Geometry),
         Text(&'static str),
@@ -90,6 +107,7 @@ pub fn write(g: &Geometry) -> String {
     let mut out = String::new();
     let mut stack = vec![Item::Geom(g)];
     while let Some(item) = stack.pop() {
+        memory::reserve_text(&mut out, SLACK, WHAT)?;
         let g = match item {
             Item::Text(s) => {
                 out.push_str(s);
@@ -106,36 +124,39 @@ pub fn write(g: &Geometry) -> String {
                     out.push_str(" EMPTY");
                 } else {
                     out.push(' ');
-                    write_line(&mut out, p, width);
+                    write_line(&mut out, p, width)?;
                 }
             }
             Shape::LineString(p) => {
                 out.push(' ');
-                write_line(&mut out, p, width);
+                write_line(&mut out, p, width)?;
             }
             Shape::Polygon(rings) => {
                 out.push(' ');
-                write_list(&mut out, rings, |out, r| write_line(out, r, width));
+                write_list(&mut out, rings, |out, r| write_line(out, r, width))?;
             }
             Shape::MultiPoint(points) | Shape::MultiLineString(points) => {
                 out.push(' ');
-                write_list(&mut out, points, |out, p| write_line(out, p, width));
+                write_list(&mut out, points, |out, p| write_line(out, p, width))?;
             }
             Shape::MultiPolygon(polygons) => {
                 out.push(' ');
                 write_list(&mut out, polygons, |out, rings| {
                     write_list(out, rings, |out, r| write_line(out, r, width))
-                });
+                })?;
             }
             Shape::GeometryCollection(members) => {
                 if members.is_empty() {
                     out.push_str(" EMPTY");
                 } else {
                     out.push_str(" (");
+                    memory::grow(&mut stack, WHAT)?;
                     stack.push(Item::Text(")"));
                     for (i, m) in members.iter().enumerate().rev() {
+                        memory::grow(&mut stack, WHAT)?;
                         stack.push(Item::Geom(m));
                         if i > 0 {
+                            memory::grow(&mut stack, WHAT)?;
                             stack.push(Item::Text(", "));
                         }
                     }
@@ -143,7 +164,7 @@ pub fn write(g: &Geometry) -> String {
             }
         }
     }
-    out
+    Ok(out)
 }
 
 /// The tag written after a keyword, with its leading space.
@@ -157,29 +178,39 @@ fn tag(dims: Dimensions) -> &'static str {
 }
 
 /// `EMPTY` or `(a, b, ...)` with `item` writing each element.
-fn write_list<T>(out: &mut String, items: &[T], mut item: impl FnMut(&mut String, &T)) {
+fn write_list<T>(
+    out: &mut String,
+    items: &[T],
+    mut item: impl FnMut(&mut String, &T) -> Result<(), GeomError>,
+) -> Result<(), GeomError> {
+    memory::reserve_text(out, SLACK, WHAT)?;
     if items.is_empty() {
         out.push_str("EMPTY");
-        return;
+        return Ok(());
     }
     out.push('(');
     for (i, x) in items.iter().enumerate() {
+        memory::reserve_text(out, SLACK, WHAT)?;
         if i > 0 {
             out.push_str(", ");
         }
-        item(out, x);
+        item(out, x)?;
     }
+    memory::reserve_text(out, SLACK, WHAT)?;
     out.push(')');
+    Ok(())
 }
 
 /// `EMPTY` or `(x y, x y, ...)`.
-fn write_line(out: &mut String, part: &[f64], width: usize) {
+fn write_line(out: &mut String, part: &[f64], width: usize) -> Result<(), GeomError> {
+    memory::reserve_text(out, SLACK, WHAT)?;
     if part.is_empty() {
         out.push_str("EMPTY");
-        return;
+        return Ok(());
     }
     out.push('(');
     for (i, v) in part.chunks(width).enumerate() {
+        memory::reserve_text(out, SLACK + width * MAX_NUMBER, WHAT)?;
         if i > 0 {
             out.push_str(", ");
         }
@@ -191,7 +222,9 @@ fn write_line(out: &mut String, part: &[f64], width: usize) {
             let _ = write!(out, "{x}");
         }
     }
+    memory::reserve_text(out, SLACK, WHAT)?;
     out.push(')');
+    Ok(())
 }
 
 /// Gives every geometry of the tree the dimensions settled by the parse
@@ -459,7 +492,9 @@ impl Parser<'_> {
         let mut items = Vec::new();
         if self.open(start)? {
             loop {
-                items.push(read(self)?);
+                let next = read(self)?;
+                memory::grow(&mut items, "the parsed WKT")?;
+                items.push(next);
                 if !self.next(element)? {
                     break;
                 }
@@ -583,7 +618,10 @@ impl Parser<'_> {
                 ),
             ));
         }
-        part.extend_from_slice(values.get(..count).unwrap_or(&[]));
+        for &x in values.get(..count).unwrap_or(&[]) {
+            memory::grow(part, "the parsed WKT")?;
+            part.push(x);
+        }
         Ok(())
     }
 
@@ -1049,6 +1087,23 @@ mod tests {
             let g = random_geometry(&mut rng, dims, 3, &mut coord);
             let text = write(&g);
             assert_eq!(parse(&text).as_ref(), Ok(&g), "case {case}: {text}");
+            assert_eq!(try_write(&g).as_ref(), Ok(&text));
         }
+    }
+
+    #[test]
+    fn the_longest_numbers_fit_the_reservation() {
+        // Rust's `{}` for f64 never uses an exponent (std::fmt docs), so the
+        // extremes are the longest: -f64::MAX (309 digits) and the smallest
+        // subnormal (323 zeros after the point). Brute force over them.
+        for x in [f64::MAX, -f64::MAX, 5e-324, -5e-324, f64::MIN_POSITIVE] {
+            assert!(format!("{x}").len() < MAX_NUMBER, "{x}");
+        }
+        let g = Geometry::new(
+            Dimensions::Xyzm,
+            Shape::LineString(vec![-5e-324, -f64::MAX, -5e-324, -f64::MAX]),
+        );
+        let text = try_write(&g).unwrap();
+        assert_eq!(parse(&text), Ok(g));
     }
 }

@@ -16,7 +16,7 @@
 
 use serde_json::Value;
 
-use crate::blob::geojson;
+use crate::blob::{geojson, memory};
 use crate::error::GeomError;
 use crate::geometry::Geometry;
 
@@ -60,23 +60,25 @@ impl FeatureCollection {
                 });
             }
         }
+        // Both texts first, then room for them (fallibly: a collection too
+        // large for memory is GeomError::TooLarge, not an abort), then
+        // nothing can fail once appending starts.
+        let geometry = match geometry {
+            Some(g) => geojson::try_write(g, geojson::DEFAULT_DECIMALS)?,
+            None => "null".to_string(),
+        };
+        // Serialising a serde_json::Value cannot fail: its keys are strings
+        // and its numbers finite.
+        let properties = properties.map_or_else(|| "null".to_string(), |p| p.to_string());
+        let room = geometry.len() + properties.len() + 64;
+        memory::reserve_text(&mut self.out, room, "the FeatureCollection")?;
         if self.features > 0 {
             self.out.push(',');
         }
         self.out.push_str(r#"{"type":"Feature","geometry":"#);
-        match geometry {
-            Some(g) => self
-                .out
-                .push_str(&geojson::write(g, geojson::DEFAULT_DECIMALS)),
-            None => self.out.push_str("null"),
-        }
+        self.out.push_str(&geometry);
         self.out.push_str(r#","properties":"#);
-        match properties {
-            // Serialising a serde_json::Value cannot fail: its keys are
-            // strings and its numbers finite.
-            Some(p) => self.out.push_str(&p.to_string()),
-            None => self.out.push_str("null"),
-        }
+        self.out.push_str(&properties);
         self.out.push('}');
         self.features += 1;
         Ok(())

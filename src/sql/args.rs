@@ -32,7 +32,9 @@ pub fn describe(value: ValueRef<'_>) -> String {
         ValueRef::Integer(i) => format!("integer {i}"),
         ValueRef::Real(r) => format!("real {r}"),
         ValueRef::Text(t) => {
-            let text = String::from_utf8_lossy(t);
+            // NUL shown as \0: a message holding NUL cannot reach SQLite,
+            // which would then report a bare "SQL logic error".
+            let text = String::from_utf8_lossy(t).replace('\0', "\\0");
             let mut shown: String = text.chars().take(40).collect();
             if shown.len() < text.len() {
                 shown.push_str("...");
@@ -176,13 +178,23 @@ impl<'a> Args<'a> {
         }
     }
 
-    /// The text of argument `i`; NULL gives `None`.
+    /// The text of argument `i`; NULL gives `None`. Text holding a NUL byte
+    /// (e.g. `'POINT (1 2)' || char(0)`) is refused: no ambit argument
+    /// means one, and it usually marks a truncated or binary value.
     pub fn text(&self, i: usize) -> rusqlite::Result<Option<&'a str>> {
         match self.raw(i) {
             ValueRef::Null => Ok(None),
-            ValueRef::Text(t) => std::str::from_utf8(t)
-                .map(Some)
-                .map_err(|_| self.fail_arg(i, "is not valid UTF-8 text")),
+            ValueRef::Text(t) => {
+                if let Some(at) = t.iter().position(|&b| b == 0) {
+                    return Err(self.fail_arg(
+                        i,
+                        format!("contains a NUL byte at offset {at}; remove it (text ends there in most programs)"),
+                    ));
+                }
+                std::str::from_utf8(t)
+                    .map(Some)
+                    .map_err(|_| self.fail_arg(i, "is not valid UTF-8 text"))
+            }
             other => Err(self.fail_arg(i, format!("must be text, got {}", describe(other)))),
         }
     }

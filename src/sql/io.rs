@@ -179,14 +179,14 @@ fn geom(args: &Args) -> rusqlite::Result<Option<Decoded>> {
 fn as_text(args: &Args) -> SqlResult {
     Ok(match geom(args)? {
         None => Value::Null,
-        Some(d) => Value::Text(wkt::write(&d.geometry)),
+        Some(d) => Value::Text(wkt::try_write(&d.geometry).map_err(|e| args.fail_arg(0, e))?),
     })
 }
 
 fn as_binary(args: &Args) -> SqlResult {
     Ok(match geom(args)? {
         None => Value::Null,
-        Some(d) => Value::Blob(blob::wkb::write(&d.geometry)),
+        Some(d) => Value::Blob(blob::wkb::try_write(&d.geometry).map_err(|e| args.fail_arg(0, e))?),
     })
 }
 
@@ -273,6 +273,8 @@ fn to_geojson(args: &Args) -> SqlResult {
     };
     Ok(match geom(args)? {
         None => Value::Null,
-        Some(d) => Value::Text(geojson::write(&d.geometry, decimals)),
+        Some(d) => {
+            Value::Text(geojson::try_write(&d.geometry, decimals).map_err(|e| args.fail_arg(0, e))?)
+        }
     })
 }
