@@ -69,8 +69,13 @@
 -- step 1 adds each pair into its clinic's row (clinic_catchment, a working
 -- table of one row per clinic), step 2 sums each block's clinics as the
 -- block is read. That is two passes of ambit_near over the blocks (on one
--- core) and storage for ids and numbers only. To see the pairs of a few
--- blocks, run the join of step 3 on them:
+-- core) and storage for ids and numbers only. The passes take their time
+-- where clinics are dense: an invented region of a million blocks with
+-- 9,578 clinics has 2,257 clinics within 10 miles of a block on average
+-- (a sample of 200 blocks), 2.3 billion pairs, at about 5 microseconds a
+-- pair some 3 hours a pass; stored, those pairs would take some 126 GB.
+-- A smaller catchment cuts both. To see the pairs of a few blocks, run the
+-- join of step 3 on them:
 --     SELECT b.geoid, n.feature_id, n.distance_m FROM blocks AS b,
 --       ambit_near('care_clinics', b.geom, 16093.44) AS n WHERE b.geoid LIKE '99007%';
 --
