@@ -54,11 +54,30 @@
 --
 -- Inputs (tables of the GeoPackage): blocks (fid, geoid, population, geom),
 -- clinics (fid, clinic_id, name, providers, geom), counties (geoid, name,
--- geom). Outputs: care_parameters, clinic_sources, care_pairs (every block
--- and clinic within the catchment, with distance, zone and weight),
--- clinic_ratio (R_j), block_care and county_care (both registered as
--- GeoPackage layers), and results/county-care-access.csv for joining with
--- other county measures by county_geoid.
+-- geom). Outputs: care_parameters, clinic_sources, clinic_ratio (R_j, with
+-- each clinic's catchment population), block_care_results (A_i and the
+-- clinics in reach, one row of ids and numbers per block, no geometry),
+-- block_care (a view of block_care_results with the block polygons) and
+-- county_care (both layers registered in the GeoPackage), and
+-- results/county-care-access.csv for joining with other county measures by
+-- county_geoid.
+--
+-- Size and time: the block-clinic pairs within the catchment are not
+-- stored. There are many: 1.1 million for the demo's 21,000 blocks (63 MB
+-- as a table with its two indexes), so at that density a nation's 8
+-- million blocks would give some 430 million pairs, about 24 GB. Instead each step asks ambit_near again and sums as it goes:
+-- step 1 adds each pair into its clinic's row (clinic_catchment, a working
+-- table of one row per clinic), step 2 sums each block's clinics as the
+-- block is read. That is two passes of ambit_near over the blocks (on one
+-- core) and storage for ids and numbers only. The passes take their time
+-- where clinics are dense: an invented region of a million blocks with
+-- 9,578 clinics has 2,257 clinics within 10 miles of a block on average
+-- (a sample of 200 blocks), 2.3 billion pairs, at about 5 microseconds a
+-- pair some 3 hours a pass; stored, those pairs would take some 126 GB.
+-- A smaller catchment cuts both. To see the pairs of a few blocks, run the
+-- join of step 3 on them:
+--     SELECT b.geoid, n.feature_id, n.distance_m FROM blocks AS b,
+--       ambit_near('care_clinics', b.geom, 16093.44) AS n WHERE b.geoid LIKE '99007%';
 --
 -- Cautions, carried into the outputs: straight-line distance is not travel
 -- time or walking access; barriers, entrances, opening hours, fees,
@@ -103,27 +122,29 @@ SELECT ambit_layer_drop('care_clinics');
 SELECT ambit_layer('care_clinics', geom, 0, fid) FROM clinics
   WHERE providers IS NOT NULL AND geom IS NOT NULL;
 
--- 3. Block-clinic pairs within the catchment, with the E2SFCA zone and
--- weight of each (ties count as within, as ambit_near returns them). ------
-DROP TABLE IF EXISTS care_pairs;
-CREATE TABLE care_pairs (
-  block_fid INTEGER NOT NULL,
-  clinic_fid INTEGER NOT NULL,
-  distance_m REAL NOT NULL,
-  zone INTEGER NOT NULL,
-  weight REAL NOT NULL,
-  PRIMARY KEY (block_fid, clinic_fid)
+-- 3. Block-clinic pairs within the catchment, with the E2SFCA weight of
+-- each (ties count as within, as ambit_near returns them), summed into
+-- their clinic's row as they come: the blocks and residents in each
+-- clinic's catchment, and the residents weighted by zone. -----------------
+DROP TABLE IF EXISTS clinic_catchment;
+CREATE TABLE clinic_catchment (
+  clinic_fid INTEGER PRIMARY KEY,
+  blocks INTEGER NOT NULL,
+  population INTEGER NOT NULL,
+  weighted_population REAL NOT NULL
 );
-INSERT INTO care_pairs (block_fid, clinic_fid, distance_m, zone, weight)
-  SELECT b.fid, n.feature_id, n.distance_m,
-         CASE WHEN n.distance_m <= p.zone1_limit_m THEN 1
-              WHEN n.distance_m <= p.zone2_limit_m THEN 2 ELSE 3 END,
-         CASE WHEN n.distance_m <= p.zone1_limit_m THEN p.zone1_weight
-              WHEN n.distance_m <= p.zone2_limit_m THEN p.zone2_weight ELSE p.zone3_weight END
+INSERT INTO clinic_catchment (clinic_fid, blocks, population, weighted_population)
+  SELECT n.feature_id, 1, b.population,
+         b.population * CASE WHEN n.distance_m <= p.zone1_limit_m THEN p.zone1_weight
+                             WHEN n.distance_m <= p.zone2_limit_m THEN p.zone2_weight
+                             ELSE p.zone3_weight END
   FROM care_parameters AS p, blocks AS b,
-       ambit_near('care_clinics', b.geom, (SELECT catchment_m FROM care_parameters)) AS n
-  WHERE b.geom IS NOT NULL;
-CREATE INDEX care_pairs_clinic ON care_pairs (clinic_fid);
+       ambit_near('care_clinics', b.geom, p.catchment_m) AS n
+  WHERE b.geom IS NOT NULL
+  ON CONFLICT (clinic_fid) DO UPDATE SET
+    blocks = blocks + 1,
+    population = population + excluded.population,
+    weighted_population = weighted_population + excluded.weighted_population;
 
 -- 4. Step 1: each clinic's ratio R_j (providers per resident of its
 -- catchment); NULL when its catchment holds no resident. -----------------
@@ -141,16 +162,16 @@ CREATE TABLE clinic_ratio (
 );
 INSERT INTO clinic_ratio
   SELECT c.fid, c.clinic_id, c.name, c.providers,
-         count(b.fid),
-         coalesce(sum(b.population), 0),
-         coalesce(sum(b.population * pr.weight), 0.0),
-         c.providers / nullif(1.0 * coalesce(sum(b.population), 0), 0),
-         c.providers / nullif(coalesce(sum(b.population * pr.weight), 0.0), 0)
+         coalesce(k.blocks, 0),
+         coalesce(k.population, 0),
+         coalesce(k.weighted_population, 0.0),
+         c.providers / nullif(1.0 * coalesce(k.population, 0), 0),
+         c.providers / nullif(coalesce(k.weighted_population, 0.0), 0)
   FROM clinics AS c
-  LEFT JOIN care_pairs AS pr ON pr.clinic_fid = c.fid
-  LEFT JOIN blocks AS b ON b.fid = pr.block_fid
+  LEFT JOIN clinic_catchment AS k ON k.clinic_fid = c.fid
   WHERE c.providers IS NOT NULL AND c.geom IS NOT NULL
-  GROUP BY c.fid;
+  ORDER BY c.fid;
+DROP TABLE clinic_catchment;
 
 -- What the clinic list held, and what was left out.
 DROP TABLE IF EXISTS clinic_sources;
@@ -166,9 +187,13 @@ CREATE TABLE clinic_sources AS
            AS providers_reaching_residents
   FROM clinics;
 
--- 5. Step 2: each block's accessibility A_i (providers per resident). ---
-DROP TABLE IF EXISTS block_care;
-CREATE TABLE block_care (
+-- 5. Step 2: each block's accessibility A_i (providers per resident),
+-- from a second ambit_near pass: the ratios of the clinics in reach, each
+-- with its zone's weight for E2SFCA. Only ids and results are stored; the
+-- layer block_care is a view that joins the block polygons back. ----------
+DROP VIEW IF EXISTS block_care;
+DROP TABLE IF EXISTS block_care_results;
+CREATE TABLE block_care_results (
   fid INTEGER PRIMARY KEY,
   geoid TEXT NOT NULL,
   county_geoid TEXT NOT NULL,
@@ -176,24 +201,31 @@ CREATE TABLE block_care (
   clinics_in_catchment INTEGER NOT NULL,
   nearest_clinic_m REAL,
   access_2sfca REAL NOT NULL,
-  access_e2sfca REAL NOT NULL,
-  geom POLYGON
+  access_e2sfca REAL NOT NULL
 );
-INSERT INTO block_care (fid, geoid, county_geoid, population, clinics_in_catchment,
-                        nearest_clinic_m, access_2sfca, access_e2sfca, geom)
-  SELECT b.fid, b.geoid, substr(b.geoid, 1, 5), b.population, count(pr.clinic_fid),
-         min(pr.distance_m),
+INSERT INTO block_care_results (fid, geoid, county_geoid, population, clinics_in_catchment,
+                                nearest_clinic_m, access_2sfca, access_e2sfca)
+  SELECT b.fid, b.geoid, substr(b.geoid, 1, 5), b.population, count(n.feature_id),
+         min(n.distance_m),
          coalesce(sum(r.ratio_2sfca), 0.0),
-         coalesce(sum(r.ratio_e2sfca * pr.weight), 0.0),
-         b.geom
-  FROM blocks AS b
-  LEFT JOIN care_pairs AS pr ON pr.block_fid = b.fid
-  LEFT JOIN clinic_ratio AS r ON r.clinic_fid = pr.clinic_fid
+         coalesce(sum(r.ratio_e2sfca
+                      * CASE WHEN n.distance_m <= p.zone1_limit_m THEN p.zone1_weight
+                             WHEN n.distance_m <= p.zone2_limit_m THEN p.zone2_weight
+                             ELSE p.zone3_weight END), 0.0)
+  FROM care_parameters AS p
+  CROSS JOIN blocks AS b
+  LEFT JOIN ambit_near('care_clinics', b.geom, p.catchment_m) AS n
+  LEFT JOIN clinic_ratio AS r ON r.clinic_fid = n.feature_id
   WHERE b.geom IS NOT NULL
   GROUP BY b.fid;
+CREATE VIEW block_care AS
+  SELECT r.fid, r.geoid, r.county_geoid, r.population, r.clinics_in_catchment,
+         r.nearest_clinic_m, r.access_2sfca, r.access_e2sfca, b.geom
+  FROM block_care_results AS r JOIN blocks AS b ON b.fid = r.fid;
 
 -- 6. The county table: population-weighted means of A_i, per 100,000
--- residents; counties by GEOID characters 1-5 of the block. ---------------
+-- residents; counties by GEOID characters 1-5 of the block. The blocks are
+-- summed first and the county polygons joined to the few summed rows. -----
 DROP TABLE IF EXISTS county_care;
 CREATE TABLE county_care (
   fid INTEGER PRIMARY KEY,
@@ -211,18 +243,22 @@ CREATE TABLE county_care (
 INSERT INTO county_care (county_geoid, county_name, build_year, blocks, population,
                          population_with_clinic, pct_with_clinic,
                          providers_per_100k_2sfca, providers_per_100k_e2sfca, geom)
-  SELECT a.county_geoid, c.name, (SELECT build_year FROM care_parameters),
-         count(*), sum(a.population),
-         sum(CASE WHEN a.clinics_in_catchment > 0 THEN a.population ELSE 0 END),
-         round(100.0 * sum(CASE WHEN a.clinics_in_catchment > 0 THEN a.population ELSE 0 END)
-               / nullif(sum(a.population), 0), 1),
-         (SELECT per_residents FROM care_parameters) * sum(a.access_2sfca * a.population)
-           / nullif(sum(a.population), 0),
-         (SELECT per_residents FROM care_parameters) * sum(a.access_e2sfca * a.population)
-           / nullif(sum(a.population), 0),
+  SELECT t.county_geoid, c.name, (SELECT build_year FROM care_parameters),
+         t.blocks, t.population, t.population_with_clinic,
+         round(100.0 * t.population_with_clinic / nullif(t.population, 0), 1),
+         (SELECT per_residents FROM care_parameters) * t.access_2sfca_pop
+           / nullif(t.population, 0),
+         (SELECT per_residents FROM care_parameters) * t.access_e2sfca_pop
+           / nullif(t.population, 0),
          c.geom
-  FROM block_care AS a LEFT JOIN counties AS c ON c.geoid = a.county_geoid
-  GROUP BY a.county_geoid ORDER BY a.county_geoid;
+  FROM (SELECT county_geoid, count(*) AS blocks, sum(population) AS population,
+               sum(CASE WHEN clinics_in_catchment > 0 THEN population ELSE 0 END)
+                 AS population_with_clinic,
+               sum(access_2sfca * population) AS access_2sfca_pop,
+               sum(access_e2sfca * population) AS access_e2sfca_pop
+        FROM block_care_results GROUP BY county_geoid) AS t
+  LEFT JOIN counties AS c ON c.geoid = t.county_geoid
+  ORDER BY t.county_geoid;
 
 -- 7. GeoPackage layers, with the cautions in their descriptions. ---------
 SELECT ambit_gpkg_register('block_care', 'geom', 'POLYGON');

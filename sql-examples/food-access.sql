@@ -36,7 +36,9 @@
 -- geom), groceries (kind, geom), urban_areas (geom), counties (geoid,
 -- name, geom). Outputs: food_access_parameters, food_access_store_kinds,
 -- food_stores (the stores counted, a GeoPackage layer), food_store_counts,
--- block_food_access and county_food_access (GeoPackage layers, so any GIS
+-- block_food_results (one row of ids and results per block, no geometry),
+-- block_food_access (a view of block_food_results with the block polygons)
+-- and county_food_access (layers registered in the GeoPackage, so any GIS
 -- opens them), and results/county-food-access.csv for joining with other
 -- county measures by county_geoid.
 --
@@ -102,18 +104,19 @@ SELECT ambit_layer_drop('food_stores');
 SELECT ambit_layer('food_stores', geom, 0, fid) FROM food_stores;
 
 -- 4. Every block: urban or rural (one sweep), the distance to the nearest
--- counted store (a second sweep), and low access beyond its threshold. -----
+-- counted store (a second sweep, joined to the first), and low access
+-- beyond its threshold. Only ids and results are stored: the block
+-- geometries stay in blocks, and the layer block_food_access is a view that
+-- joins them back for a GIS, so the script's extra storage stays small even
+-- for a nation's 8 million blocks. ------------------------------------------
 DROP TABLE IF EXISTS temp.block_urban;
 CREATE TEMP TABLE block_urban (fid INTEGER PRIMARY KEY, urban INTEGER NOT NULL);
 INSERT INTO temp.block_urban
   SELECT id, reached FROM ambit_sweep('urban', 'SELECT fid, geom FROM blocks');
-DROP TABLE IF EXISTS temp.block_store;
-CREATE TEMP TABLE block_store (fid INTEGER PRIMARY KEY, nearest_m REAL);
-INSERT INTO temp.block_store
-  SELECT id, nearest_m FROM ambit_sweep('food_stores', 'SELECT fid, geom FROM blocks');
 
-DROP TABLE IF EXISTS block_food_access;
-CREATE TABLE block_food_access (
+DROP VIEW IF EXISTS block_food_access;
+DROP TABLE IF EXISTS block_food_results;
+CREATE TABLE block_food_results (
   fid INTEGER PRIMARY KEY,
   geoid TEXT NOT NULL,
   county_geoid TEXT NOT NULL,
@@ -121,21 +124,28 @@ CREATE TABLE block_food_access (
   urban INTEGER NOT NULL,
   threshold_m REAL NOT NULL,
   nearest_store_m REAL,          -- NULL only when no store is counted at all
-  low_access INTEGER NOT NULL,
-  geom POLYGON
+  low_access INTEGER NOT NULL
 );
-INSERT INTO block_food_access (fid, geoid, county_geoid, population, urban, threshold_m,
-                               nearest_store_m, low_access, geom)
-  SELECT b.fid, b.geoid, substr(b.geoid, 1, 5), b.population, u.urban, t.threshold_m,
-         s.nearest_m, s.nearest_m IS NULL OR s.nearest_m > t.threshold_m, b.geom
-  FROM blocks AS b
-  JOIN temp.block_urban AS u ON u.fid = b.fid
-  JOIN temp.block_store AS s ON s.fid = b.fid
-  JOIN (SELECT 1 AS urban, urban_low_access_m AS threshold_m FROM food_access_parameters
-        UNION ALL
-        SELECT 0, rural_low_access_m FROM food_access_parameters) AS t ON t.urban = u.urban;
+INSERT INTO block_food_results (fid, geoid, county_geoid, population, urban, threshold_m,
+                                nearest_store_m, low_access)
+  SELECT fid, geoid, county_geoid, population, urban, threshold_m,
+         nearest_m, nearest_m IS NULL OR nearest_m > threshold_m
+  FROM (SELECT b.fid, b.geoid, substr(b.geoid, 1, 5) AS county_geoid, b.population, u.urban,
+               CASE WHEN u.urban = 1 THEN p.urban_low_access_m ELSE p.rural_low_access_m END
+                 AS threshold_m,
+               s.nearest_m
+        FROM ambit_sweep('food_stores', 'SELECT fid, geom FROM blocks') AS s
+        JOIN blocks AS b ON b.fid = s.id
+        JOIN temp.block_urban AS u ON u.fid = s.id
+        CROSS JOIN food_access_parameters AS p);
+DROP TABLE temp.block_urban;
+CREATE VIEW block_food_access AS
+  SELECT r.fid, r.geoid, r.county_geoid, r.population, r.urban, r.threshold_m,
+         r.nearest_store_m, r.low_access, b.geom
+  FROM block_food_results AS r JOIN blocks AS b ON b.fid = r.fid;
 
--- 5. The county table (counties by GEOID characters 1-5). ----------------
+-- 5. The county table (counties by GEOID characters 1-5): the blocks are
+-- summed first and the county polygons joined to the few summed rows. -----
 DROP TABLE IF EXISTS county_food_access;
 CREATE TABLE county_food_access (
   fid INTEGER PRIMARY KEY,
@@ -169,7 +179,7 @@ INSERT INTO county_food_access (county_geoid, county_name, build_year, populatio
                sum(population * urban * low_access) AS ulow,
                sum(population * (1 - urban)) AS rpop,
                sum(population * (1 - urban) * low_access) AS rlow
-        FROM block_food_access GROUP BY county_geoid) AS a
+        FROM block_food_results GROUP BY county_geoid) AS a
   LEFT JOIN counties AS c ON c.geoid = a.county_geoid
   ORDER BY county_geoid;
 

@@ -19,8 +19,10 @@
 --
 -- Inputs (tables of the GeoPackage): blocks (fid, geoid, population,
 -- geom), hazard_sites (fid, site_id, kind, geom), counties (geoid, name,
--- geom). Outputs: hazard_parameters, block_hazard_proximity and
--- county_hazard_proximity (GeoPackage layers, so any GIS opens them),
+-- geom). Outputs: hazard_parameters, block_hazard_results (one row of ids
+-- and results per block, no geometry), block_hazard_proximity (a view of
+-- block_hazard_results with the block polygons) and county_hazard_proximity
+-- (both layers registered in the GeoPackage, so any GIS opens them),
 -- most_exposed_blocks, and results/county-hazard-proximity.csv for joining
 -- with other county measures by county_geoid.
 --
@@ -57,28 +59,36 @@ SELECT ambit_layer('hazards', geom, (SELECT hazard_reach_m FROM hazard_parameter
   FROM hazard_sites WHERE geom IS NOT NULL;
 
 -- 3. Every block: near a site or not and the distance to the nearest site
--- (one sweep, all cores), then the number of sites within reach for the
--- blocks that are near one (ambit_count). ----------------------------------
-DROP TABLE IF EXISTS block_hazard_proximity;
-CREATE TABLE block_hazard_proximity (
+-- (one sweep, all cores), and the number of sites within reach, counted
+-- (ambit_count) only for the blocks the sweep found near one: the others
+-- have none. Only ids and results are stored: the block geometries stay in
+-- blocks, and the layer block_hazard_proximity is a view that joins them
+-- back for a GIS, so the script's extra storage stays small even for a
+-- nation's 8 million blocks. -------------------------------------------------
+DROP VIEW IF EXISTS block_hazard_proximity;
+DROP TABLE IF EXISTS block_hazard_results;
+CREATE TABLE block_hazard_results (
   fid INTEGER PRIMARY KEY,
   geoid TEXT NOT NULL,
   county_geoid TEXT NOT NULL,
   population INTEGER NOT NULL,
   near_hazard INTEGER NOT NULL,
   sites_within INTEGER NOT NULL,
-  nearest_site_m REAL,
-  geom POLYGON
+  nearest_site_m REAL
 );
-INSERT INTO block_hazard_proximity (fid, geoid, county_geoid, population, near_hazard,
-                                    sites_within, nearest_site_m, geom)
-  SELECT b.fid, b.geoid, substr(b.geoid, 1, 5), b.population, s.reached, 0, s.nearest_m, b.geom
+INSERT INTO block_hazard_results (fid, geoid, county_geoid, population, near_hazard,
+                                  sites_within, nearest_site_m)
+  SELECT b.fid, b.geoid, substr(b.geoid, 1, 5), b.population, s.reached,
+         CASE WHEN s.reached = 1 THEN ambit_count('hazards', b.geom) ELSE 0 END, s.nearest_m
   FROM ambit_sweep('hazards', 'SELECT fid, geom FROM blocks') AS s
   JOIN blocks AS b ON b.fid = s.id;
-UPDATE block_hazard_proximity SET sites_within = ambit_count('hazards', geom)
-  WHERE near_hazard = 1;
+CREATE VIEW block_hazard_proximity AS
+  SELECT r.fid, r.geoid, r.county_geoid, r.population, r.near_hazard, r.sites_within,
+         r.nearest_site_m, b.geom
+  FROM block_hazard_results AS r JOIN blocks AS b ON b.fid = r.fid;
 
--- 4. The county table (counties by GEOID characters 1-5). ----------------
+-- 4. The county table (counties by GEOID characters 1-5): the blocks are
+-- summed first and the county polygons joined to the few summed rows. -----
 DROP TABLE IF EXISTS county_hazard_proximity;
 CREATE TABLE county_hazard_proximity (
   fid INTEGER PRIMARY KEY,
@@ -96,29 +106,38 @@ CREATE TABLE county_hazard_proximity (
 INSERT INTO county_hazard_proximity (county_geoid, county_name, build_year, blocks,
     blocks_near_hazard, population, population_near_hazard, pct_near_hazard,
     most_sites_near_a_block, geom)
-  SELECT a.county_geoid, c.name, (SELECT build_year FROM hazard_parameters),
-         count(*), sum(a.near_hazard), sum(a.population),
-         sum(a.population * a.near_hazard),
-         round(100.0 * sum(a.population * a.near_hazard) / nullif(sum(a.population), 0), 1),
-         max(CASE WHEN a.population > 0 THEN a.sites_within ELSE 0 END),
-         c.geom
-  FROM block_hazard_proximity AS a LEFT JOIN counties AS c ON c.geoid = a.county_geoid
-  GROUP BY a.county_geoid ORDER BY a.county_geoid;
+  SELECT t.county_geoid, c.name, (SELECT build_year FROM hazard_parameters),
+         t.blocks, t.blocks_near_hazard, t.population, t.population_near_hazard,
+         round(100.0 * t.population_near_hazard / nullif(t.population, 0), 1),
+         t.most_sites, c.geom
+  FROM (SELECT county_geoid, count(*) AS blocks, sum(near_hazard) AS blocks_near_hazard,
+               sum(population) AS population,
+               sum(population * near_hazard) AS population_near_hazard,
+               max(CASE WHEN population > 0 THEN sites_within ELSE 0 END) AS most_sites
+        FROM block_hazard_results GROUP BY county_geoid) AS t
+  LEFT JOIN counties AS c ON c.geoid = t.county_geoid
+  ORDER BY t.county_geoid;
 
 -- 5. The populated blocks near the most sites (ties: more residents first,
--- then GEOID), with the kinds of the sites in reach, nearest first. --------
+-- then GEOID), with the kinds of the sites in reach, nearest first. The
+-- few listed are chosen from the results alone; only their polygons are
+-- read back for ambit_near. ------------------------------------------------
 DROP TABLE IF EXISTS most_exposed_blocks;
 CREATE TABLE most_exposed_blocks AS
-  SELECT row_number() OVER (ORDER BY sites_within DESC, population DESC, geoid) AS rank,
-         geoid, county_geoid, population, sites_within, round(nearest_site_m, 1) AS nearest_site_m,
+  SELECT row_number() OVER (ORDER BY e.sites_within DESC, e.population DESC, e.geoid) AS rank,
+         e.geoid, e.county_geoid, e.population, e.sites_within,
+         round(e.nearest_site_m, 1) AS nearest_site_m,
          (SELECT group_concat(kind, ', ') FROM (
-            SELECT h.kind FROM ambit_near('hazards', e.geom) AS n
+            SELECT h.kind FROM ambit_near('hazards', b.geom) AS n
             JOIN hazard_sites AS h ON h.fid = n.feature_id
             ORDER BY n.distance_m, h.fid)) AS site_kinds
-  FROM block_hazard_proximity AS e
-  WHERE population > 0 AND sites_within > 0
-  ORDER BY sites_within DESC, population DESC, geoid
-  LIMIT (SELECT most_exposed_listed FROM hazard_parameters);
+  FROM (SELECT fid, geoid, county_geoid, population, sites_within, nearest_site_m
+        FROM block_hazard_results
+        WHERE population > 0 AND sites_within > 0
+        ORDER BY sites_within DESC, population DESC, geoid
+        LIMIT (SELECT most_exposed_listed FROM hazard_parameters)) AS e
+  JOIN blocks AS b ON b.fid = e.fid
+  ORDER BY rank;
 
 -- 6. GeoPackage layers, with the cautions in their descriptions. ---------
 SELECT ambit_gpkg_register('block_hazard_proximity', 'geom', 'POLYGON');

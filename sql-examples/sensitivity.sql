@@ -11,8 +11,12 @@
 -- them there and every table follows, the printed one included. Each
 -- block's distance to its nearest park is computed once (ambit_sweep's
 -- nearest_m, exact geodesic distance on the WGS84 ellipsoid); every share
--- is then a comparison of those stored distances with a threshold, so the
--- shares cannot fall as the threshold grows.
+-- then comes from comparing those stored distances with the thresholds, so
+-- the shares cannot fall as the threshold grows. The comparison is made
+-- once per block: each block's residents go to the smallest threshold that
+-- holds it, and a county's residents within a threshold are the sum of its
+-- bands up to that threshold (so the grouping sorts one row per block, not
+-- one per block and threshold).
 --
 -- Run it on a copy of the demo database:
 --     cargo build --release && mkdir -p results \
@@ -21,8 +25,9 @@
 --
 -- Inputs (tables of the GeoPackage): blocks (fid, geoid, population,
 -- geom), parks (fid, geom), counties (geoid, name). Outputs:
--- park_sensitivity_parameters, park_thresholds, block_park_distance,
--- county_park_sensitivity (one row per county and threshold),
+-- park_sensitivity_parameters, park_thresholds, block_park_distance (ids
+-- and distances, no geometry), county_park_sensitivity (one row per county
+-- and threshold),
 -- results/county-park-sensitivity.csv, and results/park-sensitivity-table.sql
 -- (the statement that prints the wide table, written from park_thresholds).
 --
@@ -82,7 +87,17 @@ INSERT INTO block_park_distance (fid, geoid, county_geoid, population, nearest_p
   JOIN blocks AS b ON b.fid = s.id;
 
 -- 4. Shares per county and threshold, from the stored distances (ties
--- count as within). --------------------------------------------------------
+-- count as within). Each block's band is the smallest threshold whose
+-- distance holds it (NULL when none does); residents are summed by county
+-- and band, and then, for each threshold, over the bands up to it. --------
+DROP TABLE IF EXISTS temp.county_park_bands;
+CREATE TEMP TABLE county_park_bands AS
+  SELECT county_geoid, band_m, sum(population) AS population
+  FROM (SELECT county_geoid, population,
+               (SELECT min(metres) FROM park_thresholds WHERE d.nearest_park_m <= metres) AS band_m
+        FROM block_park_distance AS d)
+  GROUP BY county_geoid, band_m;
+
 DROP TABLE IF EXISTS county_park_sensitivity;
 CREATE TABLE county_park_sensitivity (
   county_geoid TEXT NOT NULL,
@@ -95,23 +110,24 @@ CREATE TABLE county_park_sensitivity (
   PRIMARY KEY (county_geoid, miles)
 );
 INSERT INTO county_park_sensitivity
-  SELECT d.county_geoid, c.name, t.miles, t.metres, sum(d.population),
-         sum(CASE WHEN d.nearest_park_m <= t.metres THEN d.population ELSE 0 END),
-         round(100.0 * sum(CASE WHEN d.nearest_park_m <= t.metres THEN d.population ELSE 0 END)
-               / nullif(sum(d.population), 0), 1)
-  FROM block_park_distance AS d
-  CROSS JOIN park_thresholds AS t
-  LEFT JOIN counties AS c ON c.geoid = d.county_geoid
-  GROUP BY d.county_geoid, t.miles
-  ORDER BY d.county_geoid, t.miles;
+  SELECT s.county_geoid, c.name, s.miles, s.metres, s.population, s.population_within,
+         round(100.0 * s.population_within / nullif(s.population, 0), 1)
+  FROM (SELECT b.county_geoid, t.miles, t.metres, sum(b.population) AS population,
+               sum(CASE WHEN b.band_m <= t.metres THEN b.population ELSE 0 END)
+                 AS population_within
+        FROM temp.county_park_bands AS b CROSS JOIN park_thresholds AS t
+        GROUP BY b.county_geoid, t.miles) AS s
+  LEFT JOIN counties AS c ON c.geoid = s.county_geoid
+  ORDER BY s.county_geoid, s.miles;
 -- The whole region, as county '99'.
 INSERT INTO county_park_sensitivity
-  SELECT '99', 'all counties', t.miles, t.metres, sum(d.population),
-         sum(CASE WHEN d.nearest_park_m <= t.metres THEN d.population ELSE 0 END),
-         round(100.0 * sum(CASE WHEN d.nearest_park_m <= t.metres THEN d.population ELSE 0 END)
-               / nullif(sum(d.population), 0), 1)
-  FROM block_park_distance AS d CROSS JOIN park_thresholds AS t
+  SELECT '99', 'all counties', t.miles, t.metres, sum(b.population),
+         sum(CASE WHEN b.band_m <= t.metres THEN b.population ELSE 0 END),
+         round(100.0 * sum(CASE WHEN b.band_m <= t.metres THEN b.population ELSE 0 END)
+               / nullif(sum(b.population), 0), 1)
+  FROM temp.county_park_bands AS b CROSS JOIN park_thresholds AS t
   GROUP BY t.miles ORDER BY t.miles;
+DROP TABLE temp.county_park_bands;
 
 -- 5. The long table as CSV, for joining with other county measures. ------
 .headers on

@@ -7,7 +7,10 @@
 //! - numbers stored as text (a CSV import) get a hint to CAST them;
 //! - ambit_sweep runs read-only statements only;
 //! - ambit_gpkg_register writes nothing when it fails, and names itself in
-//!   every error (views included).
+//!   every error (views included);
+//! - ambit_near's distance taken from a column of another table of the join
+//!   (a parameters table) is used, not silently compared with the hidden
+//!   column (which returned no rows).
 
 mod common;
 
@@ -255,4 +258,35 @@ fn coordinates_that_fit_only_the_other_way_round_are_called_swapped() {
     let r = shell("SELECT ST_Point(500000, 4500000);");
     assert!(r.stderr.contains("look projected"), "{}", r.stderr);
     assert!(!r.stderr.contains("swapped"), "{}", r.stderr);
+}
+
+#[test]
+fn ambit_near_takes_its_distance_from_another_table_of_the_join() {
+    // The two points of the first test, about 797 m apart; the distance 3
+    // miles (4828.032 m) comes from a one-row parameters table, as in
+    // sql-examples/care-access-2sfca.sql. The answer must equal the one with
+    // the distance written in place (source: the same query with a literal).
+    let setup = "SELECT ambit_layer('p', ST_Point(-100, 40.0072), 0);
+         CREATE TABLE params(catchment_m REAL); INSERT INTO params VALUES (4828.032);
+         CREATE TABLE places(id INTEGER PRIMARY KEY, geom BLOB);
+         INSERT INTO places (geom) VALUES (ST_Point(-100, 40)), (ST_Point(-100, 41));";
+    let out = query(&format!(
+        "{setup}
+         SELECT count(*) FROM places AS g, ambit_near('p', g.geom, 4828.032);
+         SELECT count(*) FROM params AS p, places AS g, ambit_near('p', g.geom, p.catchment_m);
+         SELECT count(*) FROM places AS g, params AS p, ambit_near('p', g.geom, p.catchment_m);
+         SELECT group_concat(g.id || ':' || coalesce(n.distance_m, '-'), ' ')
+           FROM params AS p CROSS JOIN places AS g
+           LEFT JOIN ambit_near('p', g.geom, p.catchment_m) AS n;
+         SELECT group_concat(g.id || ':' || coalesce(n.distance_m, '-'), ' ')
+           FROM places AS g LEFT JOIN ambit_near('p', g.geom, 4828.032) AS n;"
+    ));
+    let lines: Vec<&str> = out.lines().collect();
+    // The layer's own "1", then the three counts.
+    assert_eq!(lines[..4], ["1", "1", "1", "1"], "{out}");
+    assert_eq!(lines[4], lines[5], "{out}");
+    assert!(
+        lines[4].starts_with("1:") && lines[4].ends_with(" 2:-"),
+        "{out}"
+    );
 }

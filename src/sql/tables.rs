@@ -58,8 +58,11 @@ pub fn table_error(name: &str, message: impl std::fmt::Display) -> rusqlite::Err
 /// columns start at `first_arg` and number `args`, the first `required` of
 /// them needed. Equality constraints on them become xFilter arguments in
 /// column order; `idx_num` has bit k set when argument k is given.
-/// Returns `Ok(false)` (SQLITE_CONSTRAINT: try another join order) when a
-/// needed argument is not usable yet.
+/// Returns `Ok(false)` (SQLITE_CONSTRAINT: try another join order) when an
+/// argument the statement gives is not usable yet: a needed one, or an
+/// optional one taken from another table of the join (`ambit_near('l',
+/// b.geom, p.metres)`), which a plan without it would leave to SQLite to
+/// compare with the hidden column, so no row would come back.
 pub fn argument_plan(
     info: &mut IndexInfo,
     first_arg: c_int,
@@ -92,7 +95,7 @@ pub fn argument_plan_with(
             slot[k] = Some(i);
         }
     }
-    if (0..required).any(|k| slot[k].is_none() && unusable[k]) {
+    if (0..args).any(|k| slot[k].is_none() && unusable[k]) {
         return Ok(false);
     }
     let mut idx_num = 0;
