@@ -11,7 +11,7 @@
 //! ring written with explicit meridians at the pole.
 
 use ambit::blob::wkt;
-use ambit::geodesy::area::geometry_area;
+use ambit::proximity::validity::area as geometry_area;
 use ambit::proximity::{distance, within, Feature, Layer, Prepared};
 use geographiclib_rs::{DirectGeodesic, Geodesic, InverseGeodesic, PolygonArea, Winding};
 

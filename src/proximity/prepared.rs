@@ -79,7 +79,11 @@ pub fn chord_lower(a: &[f64; 3], b: &[f64; 3]) -> f64 {
 
 /// Longitude difference `b - a` reduced to (-180, 180].
 pub fn wrap_delta(a: f64, b: f64) -> f64 {
-    let d = (b - a) % 360.0;
+    let d = b - a;
+    if -180.0 < d && d <= 180.0 {
+        return d; // what the remainder below gives, without its cost
+    }
+    let d = d % 360.0;
     if d > 180.0 {
         d - 360.0
     } else if d <= -180.0 {
