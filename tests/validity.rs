@@ -344,7 +344,7 @@ fn a_200000_vertex_polygon_is_checked_quickly() {
             [cx + r * k * t.cos(), cy + r * t.sin()]
         })
         .collect();
-    flat.extend_from_slice(&flat[..2].to_vec());
+    flat.extend_from_within(..2);
     let g = Geometry::new(
         ambit::geometry::Dimensions::Xy,
         ambit::geometry::Shape::Polygon(vec![flat.clone()]),

@@ -239,7 +239,7 @@ pub fn star_shaped(raw: &[f64], width: usize) -> bool {
         extent = extent.max(x.abs()).max(y.abs());
     }
     // Within half a degree of the first vertex (so below POLAR_LAT - 0.5).
-    if !(extent <= FLAT_MAX_DEG / 2.0) {
+    if extent.is_nan() || extent > FLAT_MAX_DEG / 2.0 {
         return false;
     }
     cx /= (n - 1) as f64;
