@@ -376,7 +376,7 @@ fn stored_invalid_polygons_are_refused_by_every_function() {
             format!("SELECT ambit_layer('p', ST_Point(0.5, 0.5), 10); SELECT ambit_share('p', {bowtie});"),
             format!("ambit_share: argument 2 (geom): {crossing}"),
         ),
-        (format!("SELECT ambit_layer('q', {bowtie}, 10);"), format!("ambit_layer: argument 2 (geom): {crossing}")),
+        (format!("SELECT ambit_layer('q', {bowtie}, 10);"), format!("ambit_layer: feature 1 of layer 'q': {crossing}")),
     ] {
         let run = shell(&format!("{sql}\nSELECT 'alive';"));
         assert!(run.stderr.contains(&message), "{sql}\n  expected: {message}\n  got: {}", run.stderr);

@@ -224,6 +224,22 @@ fn small_defects_with_one_meaning_are_accepted_and_measured() {
     }
     let beside = Prepared::new(&parse("POINT(0.002 0.005)"));
     assert!(distance(&p, &beside).unwrap() > 0.0);
+    // ... and so does ambit_share: a feature reaching into the lower lobe
+    // only covers the same part of it, of an area twice the lobe's (the
+    // lobes are mirror images, equal in area to 1e-6 by Karney's values
+    // above), so the share is half the lower lobe's own.
+    let layer = ambit::proximity::Layer::new(vec![ambit::proximity::Feature {
+        id: 1,
+        reach: 100.0,
+        geometry: Prepared::new(&parse("POINT(0.0025 0.0025)")),
+        vertices: 1,
+    }]);
+    let lower = Prepared::new(&parse("POLYGON((0 0, 0.01 0, 0.005 0.005, 0 0))"));
+    let (both, one) = (
+        layer.share(&p).unwrap().unwrap(),
+        layer.share(&lower).unwrap().unwrap(),
+    );
+    assert!((2.0 * both - one).abs() < 1e-6 * one, "{both} vs {one}");
 
     // A ring that comes back to a vertex from inside: an inverted hole.
     let g = parse(
