@@ -99,6 +99,15 @@ pub enum GeomError {
     RingNotClosed {
         ring: usize,
     },
+    /// A polygon that does not mean one area (README, "Valid geometries"):
+    /// `polygon` counts the polygons of the geometry from 1, `ring` its
+    /// rings from 1 (1 the exterior), `vertex` the ring's vertices from 1.
+    InvalidPolygon {
+        polygon: usize,
+        ring: usize,
+        vertex: usize,
+        problem: PolygonProblem,
+    },
     /// Malformed WKT, with the character offset and what was expected there.
     Wkt {
         position: usize,
@@ -133,6 +142,28 @@ pub enum GeomError {
         what: &'static str,
         bytes: usize,
     },
+}
+
+/// What is wrong with an invalid polygon (see [`GeomError::InvalidPolygon`]).
+#[derive(Clone, Debug, PartialEq)]
+pub enum PolygonProblem {
+    /// Two edges cross (or the boundary passes through itself at a point it
+    /// touches): `other_*` names the second edge's polygon, ring and vertex;
+    /// (`lon`, `lat`) is a point of the crossing's neighbourhood (the
+    /// touching point, or the start of the first edge).
+    Crossing {
+        other_polygon: usize,
+        other_ring: usize,
+        other_vertex: usize,
+        lon: f64,
+        lat: f64,
+    },
+    /// A hole (ring 2 or later) that is not inside the exterior ring.
+    HoleOutside,
+    /// A hole inside another hole (or an exterior lobe inside a hole).
+    HoleInHole { other_ring: usize },
+    /// A polygon of a multipolygon inside another.
+    PartInside { other_polygon: usize },
 }
 
 impl fmt::Display for GeomError {
@@ -237,6 +268,44 @@ impl fmt::Display for GeomError {
                 f,
                 "ring {ring} is not closed: its last point must equal its first"
             ),
+            InvalidPolygon { polygon, ring, vertex, problem } => {
+                use PolygonProblem::*;
+                let here = format!("polygon {polygon}, ring {ring}");
+                match problem {
+                    Crossing { other_polygon, other_ring, other_vertex, lon, lat } => {
+                        let there = if other_polygon == polygon && other_ring == ring {
+                            "the same ring".to_string()
+                        } else if other_polygon == polygon {
+                            format!("ring {other_ring}")
+                        } else {
+                            format!("polygon {other_polygon}, ring {other_ring}")
+                        };
+                        let rule = if other_polygon != polygon {
+                            "the polygons of a MULTIPOLYGON must not overlap (they may touch at points)"
+                        } else if other_ring == ring {
+                            "a ring must not cross itself (it may touch itself at a vertex): split the area into polygons or repair it"
+                        } else {
+                            "the rings of a polygon may touch at points but not cross"
+                        };
+                        write!(
+                            f,
+                            "invalid polygon: {here} crosses {there} near ({lon}, {lat}) (edges at vertex {vertex} and vertex {other_vertex}); {rule}"
+                        )
+                    }
+                    HoleOutside => write!(
+                        f,
+                        "invalid polygon: {here} is a hole outside its exterior ring 1; a hole must lie inside its exterior (a separate area is another polygon of a MULTIPOLYGON)"
+                    ),
+                    HoleInHole { other_ring } => write!(
+                        f,
+                        "invalid polygon: {here} lies inside hole ring {other_ring}; holes must not nest (an island in a hole is another polygon of a MULTIPOLYGON)"
+                    ),
+                    PartInside { other_polygon } => write!(
+                        f,
+                        "invalid multipolygon: polygon {polygon} lies inside polygon {other_polygon}; the polygons of a MULTIPOLYGON must not overlap"
+                    ),
+                }
+            }
             Wkt { position, message } => write!(f, "malformed WKT at character {position}: {message}"),
             GeoJson { message } => write!(f, "malformed GeoJSON: {message}"),
             WrongType { expected, found } => write!(f, "expected a {expected}, got a {found}"),

@@ -277,6 +277,39 @@ const BAD_INPUTS: &[Bad] = &[
         sql: "SELECT ambit_choropleth_svg(ST_Point(1, 2));",
         message: &["wrong number of arguments to function ambit_choropleth_svg()"],
     },
+    // Valid geometries (README): polygons must mean one area.
+    Bad {
+        sql: "SELECT ST_GeomFromText('POLYGON((0 0,0.001 0,0.001 0.001,0 0),(1 1,2 1,2 2,1 1))');",
+        message: &["ST_GeomFromText: argument 1 (wkt): invalid polygon: polygon 1, ring 2 is a hole outside its exterior ring 1; a hole must lie inside its exterior (a separate area is another polygon of a MULTIPOLYGON)"],
+    },
+    Bad {
+        sql: "SELECT ST_GeomFromText('POLYGON((0 0, 1 1, 1 0, 0 1, 0 0))');",
+        message: &["ST_GeomFromText: argument 1 (wkt): invalid polygon: polygon 1, ring 1 crosses the same ring near (0.5, 0.5) (edges at vertex 1 and vertex 3); a ring must not cross itself (it may touch itself at a vertex): split the area into polygons or repair it"],
+    },
+    Bad {
+        sql: "SELECT ST_GeomFromText('POLYGON((0 0, 0.5 0.5, 1 1, 1 0, 0.5 0.5, 0 1, 0 0))');",
+        message: &["ST_GeomFromText: argument 1 (wkt): invalid polygon: polygon 1, ring 1 crosses the same ring near (0.5, 0.5)"],
+    },
+    Bad {
+        sql: "SELECT ST_GeomFromText('POLYGON((0 0, 1 0, 1 1, 0 1, 0 0),(0.1 0.1, 0.9 0.1, 0.9 0.9, 0.1 0.9, 0.1 0.1),(0.4 0.4, 0.6 0.4, 0.6 0.6, 0.4 0.6, 0.4 0.4))');",
+        message: &["ST_GeomFromText: argument 1 (wkt): invalid polygon: polygon 1, ring 3 lies inside hole ring 2; holes must not nest (an island in a hole is another polygon of a MULTIPOLYGON)"],
+    },
+    Bad {
+        sql: "SELECT ST_GeomFromText('POLYGON((0 0, 1 0, 1 1, 0 1, 0 0),(0.5 0.5, 1.5 0.5, 1.5 0.6, 0.5 0.5))');",
+        message: &["ST_GeomFromText: argument 1 (wkt): invalid polygon: polygon 1, ring 1 crosses ring 2 near (1, 0.5) (edges at vertex 2 and vertex 1); the rings of a polygon may touch at points but not cross"],
+    },
+    Bad {
+        sql: "SELECT ST_GeomFromText('MULTIPOLYGON(((0 0, 1 0, 1 1, 0 1, 0 0)),((0.5 0.5, 2 0.5, 2 2, 0.5 0.5)))');",
+        message: &["ST_GeomFromText: argument 1 (wkt): invalid polygon: polygon 1, ring 1 crosses polygon 2, ring 1 near (1, 1) (edges at vertex 3 and vertex 3); the polygons of a MULTIPOLYGON must not overlap (they may touch at points)"],
+    },
+    Bad {
+        sql: "SELECT ST_GeomFromText('MULTIPOLYGON(((0 0, 1 0, 1 1, 0 1, 0 0)),((0.2 0.2, 0.4 0.2, 0.4 0.4, 0.2 0.2)))');",
+        message: &["ST_GeomFromText: argument 1 (wkt): invalid multipolygon: polygon 2 lies inside polygon 1; the polygons of a MULTIPOLYGON must not overlap"],
+    },
+    Bad {
+        sql: "SELECT ambit_from_geojson('{\"type\":\"Polygon\",\"coordinates\":[[[0,0],[1,1],[1,0],[0,1],[0,0]]]}');",
+        message: &["ambit_from_geojson: argument 1", "invalid polygon: polygon 1, ring 1 crosses the same ring near (0.5, 0.5)"],
+    },
     Bad {
         sql: "SELECT ambit_miles('half');",
         message: &["ambit_miles: argument 1 (miles): must be a number, got text 'half'"],
@@ -312,6 +345,42 @@ fn every_bad_input_gets_a_clear_error_and_the_shell_survives() {
             bad.sql,
             run.stderr
         );
+    }
+}
+
+/// Invalid polygons stored as blobs (written by other tools) are refused by
+/// every measuring function, with the function and argument named
+/// (issue 13: the area of the first was -6,153,954,914 m2 and its share
+/// 9.98e-5; the bow-tie's area 0 and share NULL).
+#[test]
+fn stored_invalid_polygons_are_refused_by_every_function() {
+    let wkb = |text: &str| {
+        let bytes = ambit::blob::wkb::write(&ambit::blob::wkt::parse(text).unwrap());
+        let hex: String = bytes.iter().map(|b| format!("{b:02X}")).collect();
+        format!("x'{hex}'")
+    };
+    let hole = wkb("POLYGON((0 0,0.001 0,0.001 0.001,0 0),(1 1,2 1,2 2,1 1))");
+    let bowtie = wkb("POLYGON((0 0, 1 1, 1 0, 0 1, 0 0))");
+    let outside = "invalid polygon: polygon 1, ring 2 is a hole outside its exterior ring 1";
+    let crossing = "invalid polygon: polygon 1, ring 1 crosses the same ring near (0.5, 0.5)";
+    for (sql, message) in [
+        (format!("SELECT ambit_area({hole});"), format!("ambit_area: argument 1 (geom): {outside}")),
+        (format!("SELECT ambit_area({bowtie});"), format!("ambit_area: argument 1 (geom): {crossing}")),
+        (format!("SELECT ambit_length({bowtie});"), format!("ambit_length: argument 1 (geom): {crossing}")),
+        (format!("SELECT ambit_distance(ST_Point(0, 0), {hole});"), format!("ambit_distance: argument 2 (b): {outside}")),
+        (
+            format!("SELECT ambit_layer('p', ST_Point(0.5, 0.5), 10); SELECT ambit_share('p', {hole});"),
+            format!("ambit_share: argument 2 (geom): {outside}"),
+        ),
+        (
+            format!("SELECT ambit_layer('p', ST_Point(0.5, 0.5), 10); SELECT ambit_share('p', {bowtie});"),
+            format!("ambit_share: argument 2 (geom): {crossing}"),
+        ),
+        (format!("SELECT ambit_layer('q', {bowtie}, 10);"), format!("ambit_layer: feature 1 of layer 'q': {crossing}")),
+    ] {
+        let run = shell(&format!("{sql}\nSELECT 'alive';"));
+        assert!(run.stderr.contains(&message), "{sql}\n  expected: {message}\n  got: {}", run.stderr);
+        assert!(run.stdout.trim().ends_with("alive"), "{sql}: {}", run.stdout);
     }
 }
 

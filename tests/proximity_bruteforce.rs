@@ -70,7 +70,11 @@ fn random_geometry(rng: &mut XorShift, c: LonLat, size: f64) -> String {
             format!("POLYGON ({}, {})", ring_wkt(&outer), ring_wkt(&hole))
         }
         _ => {
-            let (ca, cb) = (jitter(rng), jitter(rng));
+            // Two parts side by side, apart: a multipolygon's parts must
+            // not overlap (README, "Valid geometries"). The second jitter
+            // keeps the random stream as it was.
+            let (ca, _) = (jitter(rng), jitter(rng));
+            let cb = (ca.0 + 1.2 * size * k, ca.1);
             let a = star(rng, ca, 5, size * 0.3, size * 0.5);
             let b = star(rng, cb, 6, size * 0.3, size * 0.5);
             format!("MULTIPOLYGON (({}), ({}))", ring_wkt(&a), ring_wkt(&b))

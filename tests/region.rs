@@ -10,9 +10,9 @@
 mod common;
 
 use ambit::blob::wkt;
-use ambit::geodesy::area::geometry_area;
 use ambit::geometry::validate::validate;
 use ambit::geometry::{Dimensions, Geometry, Shape};
+use ambit::proximity::validity::area as geometry_area;
 use ambit::proximity::{distance, Prepared};
 use std::collections::{HashMap, HashSet};
 use std::path::{Path, PathBuf};

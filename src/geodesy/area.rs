@@ -99,31 +99,10 @@ pub fn line_length(coords: &[f64], width: usize) -> f64 {
     total
 }
 
-/// Geodesic area of a geometry in square metres: for each polygon the area
-/// of its exterior ring less the areas of its holes (ring orientation does
-/// not matter), summed over polygons and collection members; 0 for points
-/// and lines and for empty geometries.
-///
-/// Accuracy: that of [`ring_area_perimeter`]. Expects a geometry that passed
-/// [`crate::geometry::validate`] (NaN otherwise).
-pub fn geometry_area(g: &crate::geometry::Geometry) -> f64 {
-    use crate::geometry::Shape;
-    let width = g.dims.width();
-    let polygon = |rings: &[Vec<f64>]| -> f64 {
-        let mut area = 0.0;
-        for (i, ring) in rings.iter().enumerate() {
-            let a = ring_area_perimeter(ring, width).0.abs();
-            area += if i == 0 { a } else { -a };
-        }
-        area
-    };
-    match &g.shape {
-        Shape::Polygon(rings) => polygon(rings),
-        Shape::MultiPolygon(polygons) => polygons.iter().map(|r| polygon(r)).sum(),
-        Shape::GeometryCollection(members) => members.iter().map(geometry_area).sum(),
-        _ => 0.0,
-    }
-}
+// The area of a whole geometry (its polygons under the even-odd rule,
+// rings that touch themselves cut into loops) is
+// `crate::proximity::validity::area`, next to the validity rules it
+// relies on.
 
 /// Geodesic length of a geometry in metres: the length of its line strings,
 /// plus the perimeter (all rings, holes included) of its polygons; 0 for

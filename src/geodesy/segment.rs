@@ -37,7 +37,11 @@
 //! Supported range (validated by the brute-force tests): segments up to
 //! 1000 km, points up to 1000 km from the segment, any latitude including
 //! the poles, any longitude (the geodesic library reduces longitudes modulo
-//! 360, so segments across the antimeridian need nothing special). The
+//! 360, so segments across the antimeridian need nothing special). Longer
+//! segments are cut into equal pieces of at most [`PIECE_MAX`] (1000 km) at
+//! points of their own geodesic, and both the distance and the crossing
+//! test work piece by piece (tests/poles.rs checks segments from pole to
+//! equator and beyond against brute force). The
 //! projection needs the point within the gnomonic horizon of the estimate
 //! (M12 > 0, about a quarter of a meridian, 10,000 km). Beyond the supported
 //! range, when the projection fails or the iteration has not settled in 16
@@ -64,7 +68,12 @@
 //! (C. F. F. Karney, "Geodesic intersections", J. Surveying Eng. 150(3),
 //! 2024, from memory), and any crossing of A and B requires
 //! d(a1, b1) ≤ |A| + |B| (triangle inequality), which is tested first; so
-//! the test is exact when |A| + |B| is below 5000 km. Ends lying on the
+//! the test is exact when |A| + |B| is below 5000 km, which pieces of at
+//! most [`PIECE_MAX`] guarantee. (Without the pieces, an edge from a pole
+//! towards the other pole puts the other pole in the antipodal region of
+//! its start, where every azimuth is a shortest one and the side test
+//! means nothing: a line from the north pole was found "crossing" a polygon
+//! edge that ends at the south pole 4463 km away.) Ends lying on the
 //! other geodesic (collinear or touching segments) are settled by the
 //! point-to-segment distance with [`TOUCH_TOLERANCE`].
 //!
@@ -102,6 +111,18 @@ use geographiclib_rs::{capability as caps, GeodesicLine};
 /// Accuracy: a tolerance, not a measurement; common practice, no source.
 /// NULL/NaN: not applicable (constant). References: none.
 pub const TOUCH_TOLERANCE: f64 = 1e-8;
+
+/// Longest segment handled in one piece (metres). Longer segments are cut
+/// into equal pieces no longer than this at points of their own geodesic
+/// (a sub-arc of a shortest geodesic is the shortest geodesic between its
+/// ends), so every piece lies in the range where the interception and the
+/// side tests are exact: pieces of at most 1000 km make any pair of pieces
+/// add up to at most 2000 km, well below the 5000 km of the crossing test.
+///
+/// Units: metres. Accuracy: a limit, not a measurement (the supported range
+/// of the module documentation). NULL/NaN: not applicable (constant).
+/// References: Karney 2013, section 8, doi 10.1007/s00190-012-0578-z.
+pub const PIECE_MAX: f64 = 1_000_000.0;
 
 /// Iteration cap of the gnomonic interception before the fallback search.
 const MAX_ITER: usize = 16;
@@ -292,6 +313,15 @@ impl GeodesicSegment {
             None => return (distance(p.0, p.1, self.a.0, self.a.1), 0, false),
             Some(l) => l,
         };
+        if self.is_long() {
+            return self
+                .pieces()
+                .iter()
+                .fold((f64::INFINITY, 0, false), |acc, piece| {
+                    let (d, steps, fell) = piece.distance_to_with_steps(p);
+                    (acc.0.min(d), acc.1 + steps, acc.2 || fell)
+                });
+        }
         let g = wgs84();
         let len = self.len;
         let mut t = self.initial_guess(p);
@@ -341,6 +371,36 @@ impl GeodesicSegment {
             return (best, steps, false);
         }
         (self.golden_fallback(line, p, best), steps, true)
+    }
+
+    /// True when the segment is longer than [`PIECE_MAX`] (with 1 % to spare,
+    /// so that its pieces, measured again, are never long themselves).
+    fn is_long(&self) -> bool {
+        self.len > PIECE_MAX * 1.01
+    }
+
+    /// The segment cut into equal pieces of at most [`PIECE_MAX`] at points
+    /// of its geodesic; the first piece starts at `a` and the last ends at
+    /// `b` exactly as given (so an end at a pole keeps its longitude).
+    fn pieces(&self) -> Vec<GeodesicSegment> {
+        let Some(line) = &self.line else {
+            return vec![*self];
+        };
+        if !self.is_long() {
+            return vec![*self];
+        }
+        let n = (self.len / PIECE_MAX).ceil() as usize;
+        let mut ends = Vec::with_capacity(n + 1);
+        ends.push(self.a);
+        for k in 1..n {
+            let t = self.len * k as f64 / n as f64;
+            let (_a12, lat, lon, ..) = line._gen_position(false, t, POS_CAPS);
+            ends.push((lon, lat));
+        }
+        ends.push(self.b);
+        ends.windows(2)
+            .map(|w| GeodesicSegment::new(w[0], w[1]))
+            .collect()
     }
 
     /// Golden-section search over the whole segment, with both ends.
@@ -399,6 +459,28 @@ impl GeodesicSegment {
         if !(self.valid && other.valid) {
             return false;
         }
+        if self.line.is_none() {
+            return other.distance_to(self.a) <= TOUCH_TOLERANCE;
+        }
+        if other.line.is_none() {
+            return self.distance_to(other.a) <= TOUCH_TOLERANCE;
+        }
+        if self.is_long() || other.is_long() {
+            // The side tests below are exact only for short segments: a long
+            // one may reach the antipodal region of the other's start (where
+            // azimuths mean nothing, e.g. an edge from one pole towards the
+            // other). Pieces of at most PIECE_MAX are short.
+            let (mine, theirs) = (self.pieces(), other.pieces());
+            return mine
+                .iter()
+                .any(|p| theirs.iter().any(|q| p.intersects_short(q)));
+        }
+        self.intersects_short(other)
+    }
+
+    /// [`GeodesicSegment::intersects`] for two valid segments that are not
+    /// degenerate and whose lengths add up to less than 5000 km.
+    fn intersects_short(&self, other: &GeodesicSegment) -> bool {
         if self.line.is_none() {
             return other.distance_to(self.a) <= TOUCH_TOLERANCE;
         }

@@ -8,7 +8,10 @@
 //! - x and y are finite, longitude in [-540, 540] and latitude in [-90, 90]
 //!   (numbers like 500000, 4500000 are projected metres, not degrees);
 //! - line strings have 0 or at least 2 points; polygon rings have at least 4
-//!   points and are closed (last x, y equal to the first).
+//!   points and are closed (last x, y equal to the first);
+//! - polygons mean one area: the rules of [`crate::proximity::validity`]
+//!   (README, "Valid geometries"), which needs geodesic edge crossings and
+//!   the point-in-polygon test and so lives with them.
 //!
 //! Z and M values are carried, not checked: ambit never measures with them.
 //! Vertices and rings are numbered from 1 in messages, ring 1 being a
@@ -35,11 +38,15 @@ pub fn check_srs(srs_id: i64) -> Result<(), GeomError> {
     }
 }
 
-/// Checks the spatial reference, every vertex and every ring.
+/// Checks the spatial reference, every vertex and every ring, then that
+/// every polygon means one area ([`crate::proximity::validity::check`]:
+/// no crossing edges, holes inside their exterior and not nested,
+/// polygons of a multipolygon apart).
 pub fn validate(geometry: &Geometry, srs_id: i64) -> Result<(), GeomError> {
     check_srs(srs_id)?;
     let mut vertex = 0usize;
-    check_shape(geometry, &mut vertex)
+    check_shape(geometry, &mut vertex)?;
+    crate::proximity::validity::check(geometry)
 }
 
 fn check_shape(g: &Geometry, vertex: &mut usize) -> Result<(), GeomError> {

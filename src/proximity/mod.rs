@@ -8,6 +8,7 @@ pub mod distance;
 pub mod layer;
 pub mod prepared;
 pub mod share;
+pub mod validity;
 
 pub use distance::{distance, distance_within, within, within_counted, Work};
 pub use layer::{Feature, Layer};

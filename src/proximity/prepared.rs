@@ -79,7 +79,11 @@ pub fn chord_lower(a: &[f64; 3], b: &[f64; 3]) -> f64 {
 
 /// Longitude difference `b - a` reduced to (-180, 180].
 pub fn wrap_delta(a: f64, b: f64) -> f64 {
-    let d = (b - a) % 360.0;
+    let d = b - a;
+    if -180.0 < d && d <= 180.0 {
+        return d; // what the remainder below gives, without its cost
+    }
+    let d = d % 360.0;
     if d > 180.0 {
         d - 360.0
     } else if d <= -180.0 {
@@ -207,8 +211,53 @@ pub struct Prepared {
     pub split_boxes: bool,
 }
 
-fn lonlat(part: &[f64], width: usize) -> Vec<LonLat> {
-    part.chunks_exact(width).map(|v| (v[0], v[1])).collect()
+fn lonlat(part: &[f64], width: usize, ring: bool) -> Vec<LonLat> {
+    let chain: Vec<LonLat> = part.chunks_exact(width).map(|v| (v[0], v[1])).collect();
+    if chain.iter().any(|p| at_pole(*p)) {
+        meridians_at_poles(&chain, ring)
+    } else {
+        chain
+    }
+}
+
+/// True for a vertex at a pole (latitude exactly +90 or -90), where its
+/// longitude means nothing.
+pub fn at_pole(p: LonLat) -> bool {
+    p.1.abs() == 90.0
+}
+
+/// A chain of vertices (a line, or a closed ring when `ring`) with every
+/// vertex at a pole given the longitude of the edge it ends: an edge from
+/// a point to a pole is that point's meridian, whatever longitude the data
+/// wrote at the pole (0, 360, 540, -180 all name the same point). Where the
+/// two edges at a pole vertex then arrive at different longitudes, the
+/// vertex becomes two, joined by an edge of length 0 along the pole: in the
+/// (longitude, latitude) picture that edge is the segment of the line
+/// latitude = ±90 between the two meridians, which is what the
+/// point-in-polygon ray test and Karney's area (whose pole edge spans the
+/// wedge between the meridians) need to see. An edge whose two ends are
+/// both at poles is left as written. A ring stays closed.
+pub fn meridians_at_poles(chain: &[LonLat], ring: bool) -> Vec<LonLat> {
+    if chain.len() < 2 {
+        return chain.to_vec();
+    }
+    let mut out: Vec<LonLat> = Vec::with_capacity(chain.len() + 4);
+    for w in chain.windows(2) {
+        let (mut a, mut b) = (w[0], w[1]);
+        match (at_pole(a), at_pole(b)) {
+            (true, false) => a.0 = b.0,
+            (false, true) => b.0 = a.0,
+            _ => {}
+        }
+        if out.last() != Some(&a) {
+            out.push(a);
+        }
+        out.push(b);
+    }
+    if ring && out.first() != out.last() {
+        out.push(out[0]);
+    }
+    out
 }
 
 impl Prepared {
@@ -227,7 +276,7 @@ impl Prepared {
             let rings: Vec<Vec<LonLat>> = rings
                 .iter()
                 .filter(|r| !r.is_empty())
-                .map(|r| lonlat(r, width))
+                .map(|r| lonlat(r, width, true))
                 .collect();
             if !rings.is_empty() {
                 this.polygons.push(rings);
@@ -238,7 +287,7 @@ impl Prepared {
             Shape::Point(_) => {}
             Shape::LineString(v) => {
                 if !v.is_empty() {
-                    self.lines.push(lonlat(v, width));
+                    self.lines.push(lonlat(v, width, false));
                 }
             }
             Shape::Polygon(rings) => add_polygon(rings, self),
@@ -249,7 +298,7 @@ impl Prepared {
             }
             Shape::MultiLineString(lines) => {
                 for v in lines.iter().filter(|v| !v.is_empty()) {
-                    self.lines.push(lonlat(v, width));
+                    self.lines.push(lonlat(v, width, false));
                 }
             }
             Shape::MultiPolygon(polygons) => {

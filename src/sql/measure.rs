@@ -70,7 +70,7 @@ fn within(args: &Args) -> SqlResult {
 
 fn area_m2(args: &Args) -> SqlResult {
     Ok(match args.geometry(0)? {
-        Some(d) => Value::Real(area::geometry_area(&d.geometry)),
+        Some(d) => Value::Real(crate::proximity::validity::area(&d.geometry)),
         None => Value::Null,
     })
 }
