@@ -213,7 +213,13 @@ impl Wanted {
 }
 
 /// Evaluates one row against the layer, computing only what is wanted.
-fn evaluate(layer: &Layer, id: Value, geom: Value, wanted: Wanted) -> Result<Row, String> {
+fn evaluate(
+    layer: &Layer,
+    id: Value,
+    geom: Value,
+    wanted: Wanted,
+    stop: &dyn crate::interrupt::Interrupt,
+) -> Result<Row, String> {
     let (reached, nearest, share) = match &geom {
         Value::Null => (Value::Null, Value::Null, Value::Null),
         Value::Blob(bytes) => {
@@ -233,7 +239,7 @@ fn evaluate(layer: &Layer, id: Value, geom: Value, wanted: Wanted) -> Result<Row
             // (ambit_share refuses them), so that SELECT * works on any
             // geometry.
             let share = if wanted.has(COL_SHARE) && decoded.geometry.require_polygonal("").is_ok() {
-                layer.share(&g).map_err(|e| fail(&e))?
+                layer.share(&g, stop).map_err(|e| fail(&e))?
             } else {
                 None
             };
@@ -464,11 +470,21 @@ impl SweepCursor<'_> {
         // of edges against one in the open), and neighbours in a table are
         // often alike; leaves of at most ROWS_PER_TASK rows let idle threads
         // take work from a busy one instead of waiting for its whole half.
-        let rows: Result<Vec<Row>, String> = input
-            .into_par_iter()
-            .with_max_len(ROWS_PER_TASK)
-            .map(|(id, geom)| evaluate(&layer, id, geom, wanted))
-            .collect();
+        // SAFETY: the handle is the live connection running this statement,
+        // and `host` is used only on this thread, during this call.
+        let host = unsafe {
+            crate::sql::interrupt::HostInterrupt::of_db(ffi::sqlite3_db_handle(run.query.stmt))
+        };
+        let rows: Result<Vec<Row>, String> = crate::sql::interrupt::run_parallel(&host, |stop| {
+            input
+                .into_par_iter()
+                .with_max_len(ROWS_PER_TASK)
+                .map(|(id, geom)| evaluate(&layer, id, geom, wanted, stop))
+                .collect()
+        });
+        if rows.is_err() && crate::interrupt::Interrupt::requested(&host) {
+            return Err(crate::sql::interrupted(SWEEP));
+        }
         self.rows = rows.map_err(|e| table_error(SWEEP, e))?;
         if let Some(p) = run.progress.as_mut() {
             p.report(n, run.finished);
