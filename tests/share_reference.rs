@@ -22,7 +22,8 @@ fn coverage_share_of_large_polygons_agrees_with_geographiclib() {
     println!("{out}");
 }
 
-/// One long ambit_share call (150,000 vertices, 2,000 parks) returns soon
+/// One long ambit_share call (150,000 vertices, 2,000 parks), scalar and in
+/// the sweep, returns soon
 /// after apsw's Connection.interrupt from a timer thread; prints the
 /// latency (tests/python/share_interrupt_check.py).
 #[test]

@@ -1,6 +1,7 @@
 """One long ambit_share call stops soon after the host interrupts it
 (apsw's Connection.interrupt, which calls sqlite3_interrupt, from a timer
-thread): a polygon of 150,000 vertices about 80 km across against 2,000
+thread), in the scalar function and in ambit_sweep's share column: a
+polygon of 150,000 vertices about 80 km across against 2,000
 parks, which takes seconds uninterrupted. ambit promises to honour an
 interrupt within 0.2 s (DEVELOPERS.md, "Interrupts"); the check allows 1 s
 so a loaded machine does not fail it, and prints the latency measured.
@@ -72,6 +73,26 @@ def main():
         timer.join()
         print(f"interrupted after {delay:.2f} s: returned {1000 * latency:.0f} ms after the interrupt")
         check(latency < 1.0, f"latency {latency:.3f} s")
+    # The sweep's share column: its workers see the interrupt through a
+    # flag the calling thread sets.
+    fired = {}
+
+    def fire_sweep():
+        fired["at"] = time.perf_counter()
+        conn.interrupt()
+
+    timer = threading.Timer(1.2, fire_sweep)
+    timer.start()
+    try:
+        conn.execute("SELECT share FROM ambit_sweep('parks', 'SELECT 1, geom FROM g')").fetchall()
+        check(False, "the sweep should have been interrupted")
+    except (apsw.InterruptError, apsw.SQLError) as e:
+        latency = time.perf_counter() - fired["at"]
+        latencies.append(latency)
+        check("interrupted" in str(e), f"sweep message: {e}")
+    timer.join()
+    print(f"sweep interrupted after 1.20 s: returned {1000 * latency:.0f} ms after the interrupt")
+    check(latency < 1.0, f"sweep latency {latency:.3f} s")
     # The connection works afterwards.
     again = conn.execute("SELECT ambit_share('parks', geom) FROM g").fetchone()[0]
     check(again == whole, f"the same share after interrupts: {again} vs {whole}")
