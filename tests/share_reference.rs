@@ -23,9 +23,8 @@ fn coverage_share_of_large_polygons_agrees_with_geographiclib() {
 }
 
 /// One long ambit_share call (150,000 vertices, 2,000 parks), scalar and in
-/// the sweep, returns soon
-/// after apsw's Connection.interrupt from a timer thread; prints the
-/// latency (tests/python/share_interrupt_check.py).
+/// the sweep, returns soon after apsw's Connection.interrupt from a timer
+/// thread; prints the latency (tests/python/share_interrupt_check.py).
 #[test]
 fn a_long_share_stops_when_interrupted() {
     let out = common::python_check("share_interrupt_check.py");
