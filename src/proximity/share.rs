@@ -58,8 +58,9 @@
 //! at most 3.4e-7, from a degree to a 170 x 119 degree box. Lines of `g`
 //! through the plane are computed in f64 throughout; features are used
 //! only where their elements' boxes meet `g`'s box grown by their reach.
-//! Features' own edges are still drawn as chords: an edge tens of
-//! kilometres long bows from its geodesic by up to p L² / (12 R²) metres.
+//! Features' geodesic edges longer than 5 km in the plane are cut into at
+//! most 64 parts along the geodesic, of which only those near `g` are
+//! drawn.
 
 use std::cmp::Ordering;
 use std::collections::BinaryHeap;
@@ -889,6 +890,39 @@ fn chord_points(
     }
 }
 
+/// The parts of the geodesic a-b, cut at most 64 times (into parts of at
+/// least [`CHORD_METRES`]), whose end points' box meets `near`: a part of
+/// 1/64 of a 2,000 km edge bows from its chord by centimetres within 25 km
+/// of a plane's centre. Parts elsewhere cannot reach the plane's polygon.
+fn geodesic_parts(a: (f64, f64), b: (f64, f64), near: &LonLatBox) -> Vec<((f64, f64), (f64, f64))> {
+    let (s, azi, _) = inverse(a.0, a.1, b.0, b.1);
+    if s.is_nan() {
+        return vec![(a, b)];
+    }
+    let n = (s / CHORD_METRES).ceil().clamp(1.0, 64.0) as usize;
+    let mut pts = Vec::with_capacity(n + 1);
+    pts.push(a);
+    for k in 1..n {
+        let (lat, lon): (f64, f64) = wgs84().direct(a.1, a.0, azi, s * k as f64 / n as f64);
+        pts.push((lon, lat));
+    }
+    pts.push(b);
+    pts.windows(2)
+        .filter(|w| {
+            let (p, q) = (w[0], w[1]);
+            let q_lon = p.0 + wrap_delta(p.0, q.0);
+            let part = LonLatBox {
+                lon_lo: p.0.min(q_lon),
+                lon_hi: p.0.max(q_lon),
+                lat_lo: p.1.min(q.1),
+                lat_hi: p.1.max(q.1),
+            };
+            boxes_meet(&part, near)
+        })
+        .map(|w| (w[0], w[1]))
+        .collect()
+}
+
 /// Adds feature `f`'s pieces and interior to the plane: only elements whose
 /// boxes meet `g`'s box grown by the reach (for pieces) or by `rho` (for
 /// the interior's crossings, which must include every edge crossing the
@@ -936,12 +970,25 @@ fn feature_in_plane(
             }
             Element::Edge(a, b) => {
                 let (pa, pb) = (project(a), project(b));
-                breaks.extend([pa, pb]);
-                if f.reach > 0.0 {
-                    pieces.push(Piece::capsule(pa, pb, f.reach));
-                }
-                if geometry.owners[k].is_some() {
-                    ring_edges.push(Seg { a: pa, b: pb });
+                let ring = geometry.owners[k].is_some();
+                let mut add = |pa: (f64, f64), pb: (f64, f64)| {
+                    breaks.extend([pa, pb]);
+                    if f.reach > 0.0 {
+                        pieces.push(Piece::capsule(pa, pb, f.reach));
+                    }
+                    if ring {
+                        ring_edges.push(Seg { a: pa, b: pb });
+                    }
+                };
+                if (pb.0 - pa.0).hypot(pb.1 - pa.1) > CHORD_METRES {
+                    // A long geodesic edge: its parts near g, as chords of
+                    // at most a 64th of it (or CHORD_METRES).
+                    let near_g = g_box.grown(grow + 1_000.0);
+                    for (qa, qb) in geodesic_parts(a, b, &near_g) {
+                        add(frame.forward(qa), frame.forward(qb));
+                    }
+                } else {
+                    add(pa, pb);
                 }
             }
         }

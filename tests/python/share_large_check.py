@@ -13,6 +13,8 @@ geographiclib 2.x: Geodesic.WGS84.Direct and PolygonArea, Karney 2013):
        circle): the reference region is the circle's arcs inside the band
        joined by the meridian segments (meridians are geodesics), measured
        by PolygonArea.
+       And a park (reach 0) with long geodesic edges inside a larger box:
+       the ratio of their PolygonArea areas.
     c. a ring along the equator (a hemisphere): the hemisphere ambit counts
        as inside (asked through ambit_distance of a point inside) is the
        reference polygon.
@@ -147,6 +149,23 @@ def main():
         one_point_layer(conn, name, lon0, lat0, r)
         pts, wkt = box_wkt(lon0, lat0, w, ha)
         want = clipped_circle_area(lon0, lat0, r, w) / polygon_area(pts[:-1])
+        got, secs = share(conn, name, wkt)
+        d = abs(got - want) if got is not None else math.inf
+        worst[label] = d
+        print(f"b. {label}: ambit {got!r}, reference {want:.9f}, |d| = {d:.2e} ({secs:.2f} s)")
+        check(d <= BOUND, f"b. {label}: ambit {got} vs reference {want}")
+
+    # b2. a park with long geodesic edges (a 4-corner box, reach 0) inside
+    # a larger box: the share is the ratio of their geodesic areas.
+    for k, (label, lon0, lat0, inner, outer) in enumerate([
+        ("long-edged park, 2 deg", 30.0, 55.0, 0.7, 1.0),
+        ("long-edged park, 24 deg", -40.0, 10.0, 8.0, 12.0),
+    ]):
+        name = f"park{k}"
+        ipts, iwkt = box_wkt(lon0 + 0.1 * inner, lat0, inner, inner * 0.8)
+        conn.execute(f"SELECT ambit_layer('{name}', ST_GeomFromText('{iwkt}'), 0, 1)").fetchall()
+        pts, wkt = box_wkt(lon0, lat0, outer, outer)
+        want = polygon_area(ipts[:-1]) / polygon_area(pts[:-1])
         got, secs = share(conn, name, wkt)
         d = abs(got - want) if got is not None else math.inf
         worst[label] = d
