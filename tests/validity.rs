@@ -236,8 +236,11 @@ fn small_defects_with_one_meaning_are_accepted_and_measured() {
     }]);
     let lower = Prepared::new(&parse("POLYGON((0 0, 0.01 0, 0.005 0.005, 0 0))"));
     let (both, one) = (
-        layer.share(&p).unwrap().unwrap(),
-        layer.share(&lower).unwrap().unwrap(),
+        layer.share(&p, &ambit::interrupt::Never).unwrap().unwrap(),
+        layer
+            .share(&lower, &ambit::interrupt::Never)
+            .unwrap()
+            .unwrap(),
     );
     assert!((2.0 * both - one).abs() < 1e-6 * one, "{both} vs {one}");
 

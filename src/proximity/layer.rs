@@ -140,9 +140,26 @@ impl Layer {
 
     /// The share (0..=1) of the area of polygon `g` lying within reach of
     /// some feature: see [`crate::proximity::share`] for the method and its
-    /// accuracy. `None` for an empty `g` or one of zero area.
-    pub fn share(&self, g: &Prepared) -> Result<Option<f64>, ShareError> {
-        coverage_share(g, &self.reaching(g))
+    /// accuracy. `None` for an empty `g` or one of zero area. Stops when
+    /// `stop` asks (`ShareError::Geom(GeomError::Interrupted)`).
+    pub fn share(
+        &self,
+        g: &Prepared,
+        stop: &dyn crate::interrupt::Interrupt,
+    ) -> Result<Option<f64>, ShareError> {
+        // As `reaching`, asking `stop` between features: each exact test
+        // against a polygon of many vertices can take a millisecond.
+        let mut reaching = Vec::new();
+        for (k, i) in self.candidates(g, 0.0).into_iter().enumerate() {
+            if k % 16 == 0 {
+                stop.check()?;
+            }
+            let f = &self.features[i];
+            if within(g, &f.geometry, f.reach) {
+                reaching.push(f);
+            }
+        }
+        coverage_share(g, &reaching, stop)
     }
 
     /// True when some feature lies within its reach of `g`; stops at the

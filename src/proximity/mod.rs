@@ -6,6 +6,7 @@ pub mod boxes;
 pub mod contain;
 pub mod distance;
 pub mod layer;
+pub mod pieces;
 pub mod prepared;
 pub mod share;
 pub mod validity;

@@ -121,8 +121,11 @@ fn share(args: &Args) -> SqlResult {
         .require_polygonal(SHARE_NEEDS_AREAS)
         .map_err(|e| args.fail_arg(1, e.to_string()))?;
     let g = Prepared::new(&decoded.geometry);
-    match layer.share(&g) {
+    match layer.share(&g, &args.interrupt()) {
         Ok(v) => Ok(v.map_or(Value::Null, Value::Real)),
+        Err(crate::proximity::share::ShareError::Geom(crate::error::GeomError::Interrupted)) => {
+            Err(crate::sql::interrupted(args.name()))
+        }
         Err(e) => Err(args.fail(e.to_string())),
     }
 }

@@ -223,7 +223,13 @@ impl Wanted {
 }
 
 /// Evaluates one row against the layer, computing only what is wanted.
-fn evaluate(layer: &Layer, id: Value, geom: Value, wanted: Wanted) -> Result<Row, String> {
+fn evaluate(
+    layer: &Layer,
+    id: Value,
+    geom: Value,
+    wanted: Wanted,
+    stop: &dyn crate::interrupt::Interrupt,
+) -> Result<Row, String> {
     let (reached, nearest, share) = match &geom {
         Value::Null => (Value::Null, Value::Null, Value::Null),
         Value::Blob(bytes) => {
@@ -243,7 +249,7 @@ fn evaluate(layer: &Layer, id: Value, geom: Value, wanted: Wanted) -> Result<Row
             // (ambit_share refuses them), so that SELECT * works on any
             // geometry.
             let share = if wanted.has(COL_SHARE) && decoded.geometry.require_polygonal("").is_ok() {
-                layer.share(&g).map_err(|e| fail(&e))?
+                layer.share(&g, stop).map_err(|e| fail(&e))?
             } else {
                 None
             };
@@ -474,9 +480,10 @@ impl SweepCursor<'_> {
         // of edges against one in the open), and neighbours in a table are
         // often alike; leaves of at most ROWS_PER_TASK rows let idle threads
         // take work from a busy one instead of waiting for its whole half.
-        // The workers check the stop flag before every row, and this thread
-        // sets it within a few milliseconds of an interrupt (Ctrl-C), so a
-        // chunk stops after the rows in hand, not at its end.
+        // The workers check the stop flag before every row (and ambit_share
+        // checks it inside a row), and this thread sets it within a few
+        // milliseconds of an interrupt (Ctrl-C), so a chunk stops after the
+        // rows in hand, not at its end.
         // SAFETY: the handle is the live connection of this virtual table,
         // and `host` is used only here, on the thread running the statement.
         let host = unsafe { HostInterrupt::of_db(self.table.db.0) };
@@ -488,11 +495,12 @@ impl SweepCursor<'_> {
                     if stop.requested() {
                         return Err(None);
                     }
-                    evaluate(&layer, id, geom, wanted).map_err(Some)
+                    evaluate(&layer, id, geom, wanted, stop).map_err(Some)
                 })
                 .collect()
         });
         self.rows = rows.map_err(|e| match e {
+            Some(_) if host.requested() => interrupted(SWEEP),
             Some(message) => table_error(SWEEP, message),
             None => interrupted(SWEEP),
         })?;

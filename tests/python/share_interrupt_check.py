@@ -1,0 +1,104 @@
+"""One long ambit_share call stops soon after the host interrupts it
+(apsw's Connection.interrupt, which calls sqlite3_interrupt, from a timer
+thread), in the scalar function and in ambit_sweep's share column: a
+polygon of 150,000 vertices about 80 km across against 2,000
+parks, which takes seconds uninterrupted. ambit promises to honour an
+interrupt within 0.2 s (DEVELOPERS.md, "Interrupts"); the check allows 1 s
+so a loaded machine does not fail it, and prints the latency measured.
+Test data is invented (a fixed seed).
+
+Usage: python3 share_interrupt_check.py path/to/libambit.so
+"""
+
+import math
+import random
+import sys
+import threading
+import time
+
+import apsw
+from geographiclib.geodesic import Geodesic
+
+from checks import Checks, connect
+
+G = Geodesic.WGS84
+check = Checks()
+
+
+def main():
+    conn = connect(sys.argv[1])
+    rng = random.Random(13)
+    lon0, lat0 = -131.0, 38.5
+    n = 150_000
+    ring = []
+    for k in range(n):
+        azi = 360.0 * k / n
+        r = 40_000.0 * (1.0 + 0.05 * math.sin(37 * math.radians(azi)))
+        d = G.Direct(lat0, lon0, azi, r)
+        ring.append(f"{d['lon2']!r} {d['lat2']!r}")
+    wkt = "POLYGON((" + ", ".join(ring[::-1] + [ring[-1]]) + "))"
+    conn.execute("CREATE TEMP TABLE parks (id INTEGER, lon REAL, lat REAL)")
+    with conn:
+        conn.executemany("INSERT INTO parks VALUES (?, ?, ?)", [
+            (i, lon0 + rng.uniform(-0.5, 0.5), lat0 + rng.uniform(-0.4, 0.4)) for i in range(2000)
+        ])
+    conn.execute("SELECT ambit_layer('parks', ST_Point(lon, lat), 804.672, id) FROM parks").fetchall()
+    conn.execute("CREATE TEMP TABLE g AS SELECT ST_GeomFromText(?) AS geom", (wkt,))
+
+    start = time.perf_counter()
+    whole = conn.execute("SELECT ambit_share('parks', geom) FROM g").fetchone()[0]
+    uninterrupted = time.perf_counter() - start
+    print(f"uninterrupted: share {whole:.6f} in {uninterrupted:.2f} s")
+    check(uninterrupted > 1.0, f"the call must be long enough to interrupt: {uninterrupted:.2f} s")
+
+    latencies = []
+    # 0.3 s falls in decoding, validating and preparing the polygon (before
+    # the share computation starts); the later ones in the computation.
+    for delay in (0.3, 1.2, 0.6 * uninterrupted):
+        fired = {}
+
+        def fire():
+            fired["at"] = time.perf_counter()
+            conn.interrupt()
+
+        timer = threading.Timer(delay, fire)
+        timer.start()
+        try:
+            conn.execute("SELECT ambit_share('parks', geom) FROM g").fetchall()
+            check(False, f"the call after {delay:.2f} s should have been interrupted")
+        except (apsw.InterruptError, apsw.SQLError) as e:
+            latency = time.perf_counter() - fired["at"]
+            latencies.append(latency)
+            check("ambit_share: interrupted" in str(e), f"message: {e}")
+        timer.join()
+        print(f"interrupted after {delay:.2f} s: returned {1000 * latency:.0f} ms after the interrupt")
+        check(latency < 1.0, f"latency {latency:.3f} s")
+    # The sweep's share column: its workers see the interrupt through a
+    # flag the calling thread sets.
+    fired = {}
+
+    def fire_sweep():
+        fired["at"] = time.perf_counter()
+        conn.interrupt()
+
+    timer = threading.Timer(1.2, fire_sweep)
+    timer.start()
+    try:
+        conn.execute("SELECT share FROM ambit_sweep('parks', 'SELECT 1, geom FROM g')").fetchall()
+        check(False, "the sweep should have been interrupted")
+    except (apsw.InterruptError, apsw.SQLError) as e:
+        latency = time.perf_counter() - fired["at"]
+        latencies.append(latency)
+        check("interrupted" in str(e), f"sweep message: {e}")
+    timer.join()
+    print(f"sweep interrupted after 1.20 s: returned {1000 * latency:.0f} ms after the interrupt")
+    check(latency < 1.0, f"sweep latency {latency:.3f} s")
+    # The connection works afterwards.
+    again = conn.execute("SELECT ambit_share('parks', geom) FROM g").fetchone()[0]
+    check(again == whole, f"the same share after interrupts: {again} vs {whole}")
+    print(f"max latency {1000 * max(latencies):.0f} ms")
+    check.report()
+
+
+if __name__ == "__main__":
+    main()
