@@ -234,17 +234,28 @@ def dest(lon, lat, az, dist, continuous):
     """The point `dist` metres from (lon, lat) at azimuth `az` degrees on a
     sphere (only to place vertices; ambit measures on the ellipsoid). At a
     pole the azimuth picks the meridian. `continuous` keeps the longitude
-    within 180 degrees of `lon` (may pass 180) instead of wrapping it."""
+    within 180 degrees of `lon` (may pass 180) instead of wrapping it.
+    Computed with Earth-centred unit vectors, so points within metres of a
+    pole keep their digits (the asin form loses half of them there, enough
+    to turn a star-shaped ring around a point near the pole into a ring
+    that crosses itself)."""
     d = dist / EARTH_R
     if abs(lat) == 90.0:
         lat2 = math.degrees(math.pi / 2 - d) * (1 if lat > 0 else -1)
         lon2 = az - 180.0 if lat > 0 else -az
         return (wrap(lon2), lat2)
     p1, l1, a = math.radians(lat), math.radians(lon), math.radians(az)
-    s = math.sin(p1) * math.cos(d) + math.cos(p1) * math.sin(d) * math.cos(a)
-    p2 = math.asin(max(-1.0, min(1.0, s)))
-    l2 = l1 + math.atan2(math.sin(a) * math.sin(d) * math.cos(p1),
-                         math.cos(d) - math.sin(p1) * s)
+    sp, cp, sl, cl = math.sin(p1), math.cos(p1), math.sin(l1), math.cos(l1)
+    # The start, and the unit vectors east and north there.
+    px, py, pz = cp * cl, cp * sl, sp
+    ex, ey, ez = -sl, cl, 0.0
+    nx, ny, nz = -sp * cl, -sp * sl, cp
+    ca, sa, cd, sd = math.cos(a), math.sin(a), math.cos(d), math.sin(d)
+    qx = cd * px + sd * (ca * nx + sa * ex)
+    qy = cd * py + sd * (ca * ny + sa * ey)
+    qz = cd * pz + sd * (ca * nz + sa * ez)
+    p2 = math.atan2(qz, math.hypot(qx, qy))
+    l2 = math.atan2(qy, qx)
     lon2 = math.degrees(l2)
     lon2 = lon + ((lon2 - lon + 180.0) % 360.0 - 180.0) if continuous else wrap(lon2)
     if abs(lon2) > 540.0:   # a long continuous walk: stay in ambit's range
@@ -350,13 +361,14 @@ def geometry(rng, where=None, kinds=None, r=None):
             _SECTORS[id(rings)] = (a0, span)
             return ("POLYGON", rings)
         return ("POLYGON", star_polygon(rng, lon, lat, r, continuous))
-    # Multipolygon: parts around centres 2.5 r apart on a line, radii <= r.
+    # Multipolygon: parts around centres 2.5 r apart on one great circle
+    # (every centre measured from the first, so the line stays straight even
+    # across a pole), radii <= r.
     parts = []
     az = rng.uniform(0, 360)
-    clon, clat = lon, lat
-    for _ in range(rng.randint(2, 3)):
+    for k in range(rng.randint(2, 3)):
+        clon, clat = (lon, lat) if k == 0 else dest(lon, lat, az, 2.5 * r * k, continuous)
         parts.append(star_polygon(rng, clon, clat, r, continuous))
-        clon, clat = dest(clon, clat, az, 2.5 * r, continuous)
     return ("MULTIPOLYGON", parts)
 
 
