@@ -127,6 +127,17 @@ pub enum GeomError {
     /// The computation was interrupted (sqlite3_interrupt, Ctrl-C) before
     /// it finished; nothing it would have changed was changed.
     Interrupted,
+    /// The allocator refused `bytes` bytes (a memory limit such as
+    /// `ulimit -v`, or the machine's memory); nothing was changed.
+    OutOfMemory {
+        bytes: usize,
+    },
+    /// A layer would hold feature id `id` twice: `earlier` when the layer
+    /// already held it before this call, otherwise the call gave it twice.
+    DuplicateFeatureId {
+        id: i64,
+        earlier: bool,
+    },
 }
 
 impl fmt::Display for GeomError {
@@ -234,6 +245,17 @@ impl fmt::Display for GeomError {
                 "must be a JSON object such as json_object(...) returns (RFC 7946, section 3.2), got {found}"
             ),
             Interrupted => write!(f, "interrupted"),
+            OutOfMemory { bytes } => write!(
+                f,
+                "the allocator refused {} (a memory limit such as ulimit -v, or the machine's memory)",
+                crate::memory::describe_bytes(*bytes)
+            ),
+            DuplicateFeatureId { id, earlier: true } => {
+                write!(f, "feature id {id} is already in the layer")
+            }
+            DuplicateFeatureId { id, earlier: false } => {
+                write!(f, "feature id {id} is given twice")
+            }
         }
     }
 }
