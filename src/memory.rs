@@ -48,6 +48,13 @@ pub fn probe(bytes: usize) -> Result<(), GeomError> {
         .map_err(|_| GeomError::OutOfMemory { bytes })
 }
 
+/// Frees `garbage` on a background thread of the rayon pool: freeing
+/// hundreds of thousands of features takes a noticeable part of a second,
+/// which an interrupted or failed statement should not wait for.
+pub fn discard<T: Send + 'static>(garbage: T) {
+    rayon::spawn(move || drop(garbage));
+}
+
 /// A byte count for people: "840 bytes", "12.3 MB", "1.52 GB" (decimal
 /// units, SI).
 pub fn describe_bytes(bytes: usize) -> String {

@@ -23,8 +23,12 @@ use crate::proximity::distance::{distance_within, within};
 use crate::proximity::prepared::{tree_bytes, wrap_delta, Prepared};
 use crate::proximity::share::{coverage_share, ShareError};
 
-/// Features (or candidates) handled between two interrupt checks.
+/// Features indexed between two interrupt checks.
 const CHECK_EVERY: usize = 4096;
+
+/// Candidates decided between two interrupt checks: one exact decision
+/// can take a millisecond far from a feature, and a check is a clock read.
+const CHECK_CANDIDATES: usize = 16;
 
 /// Features prepared together before the interrupt flag is read and
 /// progress reported (a batch ends sooner once it holds
@@ -115,6 +119,31 @@ pub struct LayerIndex {
     ids: Vec<i64>,
     extent: Option<Extent>,
     len: usize,
+}
+
+/// What [`Layer::index`] gathers; [`IndexInput::load`] builds the R*-tree
+/// from it (one bulk load that cannot be stopped part way: about a second
+/// per million features here).
+#[derive(Debug)]
+pub struct IndexInput {
+    entries: Vec<Entry>,
+    split_boxes: bool,
+    ids: Vec<i64>,
+    extent: Option<Extent>,
+    len: usize,
+}
+
+impl IndexInput {
+    /// Bulk loads the R*-tree (its size was probed by [`Layer::index`]).
+    pub fn load(self) -> LayerIndex {
+        LayerIndex {
+            tree: RTree::bulk_load(self.entries),
+            split_boxes: self.split_boxes,
+            ids: self.ids,
+            extent: self.extent,
+            len: self.len,
+        }
+    }
 }
 
 /// Longitude spans and latitude ranges gathered for an [`Extent`]: the
@@ -234,7 +263,8 @@ impl Layer {
         let mut ids: Vec<i64> = features.iter().map(|f| f.id).collect();
         ids.sort_unstable();
         let index = Layer::index(&[], &features, ids, &Never)
-            .unwrap_or_else(|e| panic!("indexing a layer: {e}"));
+            .unwrap_or_else(|e| panic!("indexing a layer: {e}"))
+            .load();
         Layer::assemble(index, features)
     }
 
@@ -253,15 +283,23 @@ impl Layer {
         progress: &(dyn Fn(usize) + Sync),
     ) -> Result<Vec<Feature>, GeomError> {
         let mut out: Vec<Feature> = memory::vec_with_capacity(rows.len())?;
-        let mut rows = rows.into_iter().peekable();
-        while rows.peek().is_some() {
-            stop.check()?;
-            let mut batch = memory::vec_with_capacity(BATCH_FEATURES)?;
+        let mut rows = rows.into_iter();
+        let result = loop {
+            if let Err(e) = stop.check() {
+                break Err(e);
+            }
+            let mut batch = match memory::vec_with_capacity(BATCH_FEATURES) {
+                Ok(b) => b,
+                Err(e) => break Err(e),
+            };
             let mut vertices = 0;
             while batch.len() < BATCH_FEATURES && vertices < BATCH_VERTICES {
                 let Some(row) = rows.next() else { break };
                 vertices += row.2.vertex_count();
                 batch.push(row);
+            }
+            if batch.is_empty() {
+                break Ok(());
             }
             let prepared: Result<Vec<Feature>, GeomError> = batch
                 .into_par_iter()
@@ -270,11 +308,20 @@ impl Layer {
                     Feature::build(id, reach, &g, stop)
                 })
                 .collect();
-            out.extend(prepared?);
+            match prepared {
+                Ok(p) => out.extend(p),
+                Err(e) => break Err(e),
+            }
             progress(out.len());
+        };
+        match result {
+            Ok(()) => Ok(out),
+            Err(e) => {
+                // Stopped: what was done is freed in the background.
+                memory::discard((out, rows));
+                Err(e)
+            }
         }
-        stop.check()?;
-        Ok(out)
     }
 
     /// An estimate, in bytes, of the memory building a layer of `rows`
@@ -342,7 +389,7 @@ impl Layer {
         added: &[Feature],
         ids: Vec<i64>,
         stop: &dyn Interrupt,
-    ) -> Result<LayerIndex, GeomError> {
+    ) -> Result<IndexInput, GeomError> {
         let len = base.len() + added.len();
         let mut entries: Vec<Entry> = memory::vec_with_capacity(len)?;
         let mut with_box = 0;
@@ -361,9 +408,9 @@ impl Layer {
         }
         stop.check()?;
         memory::probe(tree_bytes(entries.len(), std::mem::size_of::<Entry>()))?;
-        Ok(LayerIndex {
+        Ok(IndexInput {
             split_boxes: entries.len() > with_box,
-            tree: RTree::bulk_load(entries),
+            entries,
             ids,
             extent: extent.extent(),
             len,
@@ -396,6 +443,21 @@ impl Layer {
     /// Takes the features back, to extend the layer.
     pub fn into_features(self) -> Vec<Feature> {
         self.features
+    }
+
+    /// The features and the index, apart (see [`Layer::assemble`]).
+    pub fn into_parts(self) -> (Vec<Feature>, LayerIndex) {
+        let len = self.features.len();
+        (
+            self.features,
+            LayerIndex {
+                tree: self.tree,
+                split_boxes: self.split_boxes,
+                ids: self.ids,
+                extent: self.extent,
+                len,
+            },
+        )
     }
 
     /// Total vertices of all features.
@@ -460,7 +522,7 @@ impl Layer {
     /// thousand): `Err(GeomError::Interrupted)` when asked to stop.
     pub fn reached_until(&self, g: &Prepared, stop: &dyn Interrupt) -> Result<bool, GeomError> {
         for (k, i) in self.candidates(g, 0.0).into_iter().enumerate() {
-            if k % CHECK_EVERY == CHECK_EVERY - 1 {
+            if k % CHECK_CANDIDATES == CHECK_CANDIDATES - 1 {
                 stop.check()?;
             }
             let f = &self.features[i];
@@ -491,7 +553,7 @@ impl Layer {
             .into_iter()
             .enumerate()
         {
-            if k % CHECK_EVERY == CHECK_EVERY - 1 {
+            if k % CHECK_CANDIDATES == CHECK_CANDIDATES - 1 {
                 stop.check()?;
             }
             let f = &self.features[i];
@@ -593,7 +655,7 @@ impl Layer {
         ranked.sort_unstable_by(|x, y| x.0.cmp(&y.0).then(x.1.total_cmp(&y.1)).then(x.2.cmp(&y.2)));
         let mut best: Option<(f64, usize)> = None;
         for (k, (_, lower, i)) in ranked.into_iter().enumerate() {
-            if k % CHECK_EVERY == CHECK_EVERY - 1 {
+            if k % CHECK_CANDIDATES == CHECK_CANDIDATES - 1 {
                 stop.check()?;
             }
             let cap = best.map_or(radius, |b| b.0).min(radius);

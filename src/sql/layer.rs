@@ -12,6 +12,7 @@ use rusqlite::Connection;
 use crate::blob;
 use crate::error::GeomError;
 use crate::geometry::Geometry;
+use crate::interrupt::Interrupt;
 use crate::memory;
 use crate::proximity::{Feature, Layer, Prepared};
 use crate::sql::interrupt::{run_parallel, HostInterrupt};
@@ -184,6 +185,30 @@ pub struct Pending {
     failed: bool,
 }
 
+/// Runs `work` on the rayon pool while this thread watches `host`; on an
+/// interrupt returns at once (`Err(GeomError::Interrupted)`), leaving the
+/// work to finish and be freed in the background. For work that cannot
+/// stop part way (rstar's bulk load).
+fn detached<T: Send + 'static>(
+    host: &HostInterrupt<'_>,
+    work: impl FnOnce() -> T + Send + 'static,
+) -> Result<T, GeomError> {
+    let (sender, receiver) = std::sync::mpsc::sync_channel(1);
+    rayon::spawn(move || {
+        // A closed channel (the statement was interrupted) drops the value.
+        let _ = sender.send(work());
+    });
+    loop {
+        match receiver.recv_timeout(std::time::Duration::from_millis(5)) {
+            Ok(value) => return Ok(value),
+            Err(std::sync::mpsc::RecvTimeoutError::Timeout) => host.check()?,
+            Err(std::sync::mpsc::RecvTimeoutError::Disconnected) => {
+                return Err(GeomError::Interrupted)
+            }
+        }
+    }
+}
+
 /// The aggregate ambit_layer(name, geom [, reach_m [, feature_id]]).
 struct LayerBuilder {
     state: Arc<ConnState>,
@@ -324,24 +349,48 @@ impl LayerBuilder {
             .map_err(|e| fail(bytes, e))?;
         drop(meter);
         let base_features = base.as_ref().map_or(&[][..], |b| b.features());
-        let index =
-            Layer::index(base_features, &prepared, all_ids, host).map_err(|e| fail(bytes, e))?;
-        if host.requested_now() {
-            return Err(interrupted(LAYER));
-        }
-        let mut features: Vec<Feature> =
-            memory::vec_with_capacity(base_len + added).map_err(|e| fail(bytes, e))?;
-
-        // Nothing below can fail: the old layer is swapped for the new.
-        drop(base);
-        if let Some(old) = self.state.take(name) {
-            match Arc::try_unwrap(old) {
-                Ok(layer) => features.extend(layer.into_features()),
-                // Still read by another statement of this connection.
-                Err(shared) => features.extend(shared.features().iter().cloned()),
+        let index = Layer::index(base_features, &prepared, all_ids, host)
+            .and_then(|input| detached(host, move || input.load()))
+            .and_then(|index| {
+                // A new layer keeps the prepared array as it is.
+                let features: Vec<Feature> = match base_len {
+                    0 => Vec::new(),
+                    n => memory::vec_with_capacity(n + added)?,
+                };
+                if host.requested_now() {
+                    return Err(GeomError::Interrupted);
+                }
+                Ok((index, features))
+            });
+        let (index, mut features) = match index {
+            Ok(done) => done,
+            Err(e) => {
+                memory::discard(prepared);
+                return Err(fail(bytes, e));
             }
-        }
-        features.extend(prepared);
+        };
+
+        // Nothing below can fail, and it is quick (an interrupt arriving
+        // now is reported by SQLite after the layer was stored): the old
+        // layer is swapped for the new; its index is freed in the
+        // background.
+        drop(base);
+        let features = match self.state.take(name) {
+            None => prepared,
+            Some(old) => {
+                match Arc::try_unwrap(old) {
+                    Ok(layer) => {
+                        let (old_features, old_index) = layer.into_parts();
+                        memory::discard(old_index);
+                        features.extend(old_features);
+                    }
+                    // Still read by another statement of this connection.
+                    Err(shared) => features.extend(shared.features().iter().cloned()),
+                }
+                features.extend(prepared);
+                features
+            }
+        };
         self.state.put(name, Layer::assemble(index, features));
         Ok(added as i64)
     }
@@ -360,7 +409,9 @@ impl Aggregate<Pending, i64> for LayerBuilder {
         let args = Args::new(LAYER, LAYER_PARAMS, values, &self.state);
         let result = guard(LAYER, || self.step_args(&args, acc));
         if result.is_err() {
-            // Free the rows at once; finalize will change nothing.
+            // Free the rows (in the background); finalize will change
+            // nothing.
+            memory::discard(std::mem::take(&mut acc.features));
             *acc = Pending {
                 failed: true,
                 ..Pending::default()
@@ -389,6 +440,7 @@ impl Aggregate<Pending, i64> for LayerBuilder {
         let ctx: &Context<'_> = ctx;
         let host = HostInterrupt::of_call(ctx);
         if host.requested_now() {
+            memory::discard(features);
             return Err(interrupted(LAYER));
         }
         guard(LAYER, || self.build(&host, &name, features, implicit_ids))
