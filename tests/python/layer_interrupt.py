@@ -36,7 +36,7 @@ CREATE TABLE base AS
 """
 
 ANSWERS = """
-SELECT name, features, vertices, bytes, west, south, east, north FROM ambit_layers ORDER BY name;
+SELECT name, features, vertices, bytes FROM ambit_layers ORDER BY name;
 SELECT sum(ambit_count('base', geom, 2000)), round(sum(ambit_nearest('base', geom)), 6),
        sum(ambit_reached('base', geom)) FROM grid WHERE id % 1000 = 0;
 """
