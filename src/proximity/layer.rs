@@ -518,8 +518,8 @@ impl Layer {
         self.reached_until(g, &Never).unwrap_or(false)
     }
 
-    /// [`Layer::reached`], reading `stop` between candidates (every few
-    /// thousand): `Err(GeomError::Interrupted)` when asked to stop.
+    /// [`Layer::reached`], reading `stop` between candidates (every
+    /// [`CHECK_CANDIDATES`]): `Err(GeomError::Interrupted)` when asked to stop.
     pub fn reached_until(&self, g: &Prepared, stop: &dyn Interrupt) -> Result<bool, GeomError> {
         for (k, i) in self.candidates(g, 0.0).into_iter().enumerate() {
             if k % CHECK_CANDIDATES == CHECK_CANDIDATES - 1 {
@@ -539,8 +539,8 @@ impl Layer {
         self.count_until(g, metres, &Never).unwrap_or(0)
     }
 
-    /// [`Layer::count`], reading `stop` between candidates (every few
-    /// thousand): `Err(GeomError::Interrupted)` when asked to stop.
+    /// [`Layer::count`], reading `stop` between candidates (every
+    /// [`CHECK_CANDIDATES`]): `Err(GeomError::Interrupted)` when asked to stop.
     pub fn count_until(
         &self,
         g: &Prepared,
@@ -585,8 +585,8 @@ impl Layer {
         self.nearest_until(g, max_m, &Never).unwrap_or(None)
     }
 
-    /// [`Layer::nearest`], reading `stop` between candidates (every few
-    /// thousand) and between rounds of the widening search:
+    /// [`Layer::nearest`], reading `stop` between candidates (every
+    /// [`CHECK_CANDIDATES`]) and between rounds of the widening search:
     /// `Err(GeomError::Interrupted)` when asked to stop. Far from every
     /// feature of a large layer the last rounds look at every feature.
     pub fn nearest_until(
@@ -750,6 +750,103 @@ mod tests {
         let far = prep("POINT (-179.97 -16.0)");
         assert!(!layer.reached(&far));
         assert!(layer.nearest(&far, None).unwrap() > 600.0);
+    }
+
+    #[test]
+    fn ids_already_held_or_given_twice_are_refused() {
+        let layer = Layer::new(vec![
+            feature(5, "POINT (1 2)", 0.0),
+            feature(2, "POINT (1 3)", 0.0),
+        ]);
+        assert_eq!(
+            Layer::check_ids(Some(&layer), &[9, 2, 9]),
+            Err(GeomError::DuplicateFeatureId {
+                id: 2,
+                earlier: true
+            })
+        );
+        // The first id given twice, in the order given.
+        assert_eq!(
+            Layer::check_ids(None, &[4, 8, 3, 8, 4]),
+            Err(GeomError::DuplicateFeatureId {
+                id: 4,
+                earlier: false
+            })
+        );
+        assert_eq!(
+            Layer::check_ids(Some(&layer), &[7, 1]),
+            Ok(vec![1, 2, 5, 7])
+        );
+        assert!(layer.holds(5) && !layer.holds(7));
+    }
+
+    #[test]
+    fn the_extent_is_that_of_the_vertices_and_may_cross_the_antimeridian() {
+        // Vertex extremes, read off the coordinates below (brute force).
+        let layer = Layer::new(vec![
+            feature(1, "POINT (-131.5 38.2)", 5000.0),
+            feature(2, "LINESTRING (-131.2 38.6, -130.9 38.1)", 0.0),
+        ]);
+        let e = layer.extent().unwrap();
+        assert_eq!(
+            (e.west, e.south, e.east, e.north),
+            (-131.5, 38.1, -130.9, 38.6)
+        );
+        // A line across 180 and a point east of it: west > east.
+        let layer = Layer::new(vec![
+            feature(1, "LINESTRING (179.5 -16.2, -179.8 -16.0)", 0.0),
+            feature(2, "POINT (-179.25 -15.9)", 0.0),
+        ]);
+        let e = layer.extent().unwrap();
+        assert_eq!(
+            (e.west, e.south, e.east, e.north),
+            (179.5, -16.2, -179.25, -15.9)
+        );
+        // Features on both sides of the globe, with a gap at 0 degrees.
+        let layer = Layer::new(vec![
+            feature(1, "POINT (100 1)", 0.0),
+            feature(2, "POINT (-100 2)", 0.0),
+        ]);
+        let e = layer.extent().unwrap();
+        assert_eq!((e.west, e.east), (100.0, -100.0));
+        // A ring around the north pole spans every longitude.
+        let layer = Layer::new(vec![feature(
+            1,
+            "POLYGON ((0 80, 90 80, 180 80, -90 80, 0 80))",
+            0.0,
+        )]);
+        let e = layer.extent().unwrap();
+        assert_eq!((e.west, e.east, e.south), (-180.0, 180.0, 80.0));
+        assert_eq!(Layer::new(vec![]).extent(), None);
+    }
+
+    #[test]
+    fn an_interrupted_preparation_returns_interrupted() {
+        use crate::interrupt::AfterChecks;
+        // A ring of 200,000 vertices: several checks while it is prepared.
+        let n = 200_000;
+        let ring: Vec<String> = (0..n)
+            .map(|k| {
+                let t = std::f64::consts::TAU * k as f64 / n as f64;
+                format!("{} {}", -131.0 + 0.2 * t.cos(), 38.4 + 0.2 * t.sin())
+            })
+            .chain(std::iter::once("-130.8 38.4".to_string()))
+            .collect();
+        let g = wkt::parse(&format!("POLYGON (({}))", ring.join(", "))).unwrap();
+        for after in [0, 1, 2] {
+            assert_eq!(
+                Prepared::build(&g, &AfterChecks::new(after)).err(),
+                Some(GeomError::Interrupted)
+            );
+        }
+        assert!(Prepared::build(&g, &Never).is_ok());
+        let stop = crate::interrupt::StopFlag::new();
+        stop.set();
+        let rows = vec![(1, 0.0, g)];
+        assert_eq!(
+            Layer::prepare(rows, &stop, &|_| {}).err(),
+            Some(GeomError::Interrupted)
+        );
     }
 
     #[test]
