@@ -142,6 +142,17 @@ pub enum GeomError {
         what: &'static str,
         bytes: usize,
     },
+    /// The allocator refused `bytes` bytes (a memory limit such as
+    /// `ulimit -v`, or the machine's memory); nothing was changed.
+    OutOfMemory {
+        bytes: usize,
+    },
+    /// A layer would hold feature id `id` twice: `earlier` when the layer
+    /// already held it before this call, otherwise the call gave it twice.
+    DuplicateFeatureId {
+        id: i64,
+        earlier: bool,
+    },
 }
 
 /// What is wrong with an invalid polygon (see [`GeomError::InvalidPolygon`]).
@@ -322,6 +333,17 @@ impl fmt::Display for GeomError {
                 f,
                 "geometry too large for available memory: could not allocate {bytes} bytes for {what}; split it into smaller geometries or raise the memory limit of the process"
             ),
+            OutOfMemory { bytes } => write!(
+                f,
+                "the allocator refused {} (a memory limit such as ulimit -v, or the machine's memory)",
+                crate::memory::describe_bytes(*bytes)
+            ),
+            DuplicateFeatureId { id, earlier: true } => {
+                write!(f, "feature id {id} is already in the layer")
+            }
+            DuplicateFeatureId { id, earlier: false } => {
+                write!(f, "feature id {id} is given twice")
+            }
         }
     }
 }

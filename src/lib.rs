@@ -10,6 +10,7 @@ pub mod error;
 pub mod geodesy;
 pub mod geometry;
 pub mod interrupt;
+pub mod memory;
 pub mod proximity;
 pub mod render;
 pub mod sql;

@@ -11,12 +11,30 @@
 //! answer is decided by the exact test of [`mod@crate::proximity::distance`].
 //! Results never depend on the order in which features were added.
 
+use rayon::prelude::*;
 use rstar::primitives::{GeomWithData, Rectangle};
 use rstar::RTree;
 
+use crate::error::GeomError;
+use crate::geometry::Geometry;
+use crate::interrupt::{Interrupt, Never};
+use crate::memory;
 use crate::proximity::distance::{distance_within, within};
-use crate::proximity::prepared::Prepared;
+use crate::proximity::prepared::{tree_bytes, wrap_delta, Prepared};
 use crate::proximity::share::{coverage_share, ShareError};
+
+/// Features indexed between two interrupt checks.
+const CHECK_EVERY: usize = 4096;
+
+/// Candidates decided between two interrupt checks: one exact decision
+/// can take a millisecond far from a feature, and a check is a clock read.
+const CHECK_CANDIDATES: usize = 16;
+
+/// Features prepared together before the interrupt flag is read and
+/// progress reported (a batch ends sooner once it holds
+/// [`BATCH_VERTICES`] vertices).
+const BATCH_FEATURES: usize = 4096;
+const BATCH_VERTICES: usize = 1 << 20;
 
 /// Half the circumference, metres: no two points are farther apart.
 const MAX_SEPARATION: f64 = 20_004_000.0;
@@ -33,6 +51,22 @@ pub struct Feature {
 }
 
 impl Feature {
+    /// The feature `id` with reach `reach` (metres) and geometry `g`,
+    /// prepared; see [`Prepared::build`] for `stop` and the errors.
+    pub fn build(
+        id: i64,
+        reach: f64,
+        g: &Geometry,
+        stop: &dyn Interrupt,
+    ) -> Result<Feature, GeomError> {
+        Ok(Feature {
+            id,
+            reach,
+            vertices: g.vertex_count(),
+            geometry: Prepared::build(g, stop)?,
+        })
+    }
+
     /// Memory held by the feature, bytes (approximate, for ambit_layers).
     pub fn bytes(&self) -> usize {
         let g = &self.geometry;
@@ -51,6 +85,18 @@ impl Feature {
 
 type Entry = GeomWithData<Rectangle<[f64; 2]>, u32>;
 
+/// The extent of a layer's vertices in degrees: `west` and `east` in
+/// [-180, 180], `south` and `north` in [-90, 90]. `west > east` when the
+/// layer crosses the antimeridian (as RFC 7946 section 5.2 writes bounding
+/// boxes); a layer all around the globe has west -180 and east 180.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Extent {
+    pub west: f64,
+    pub south: f64,
+    pub east: f64,
+    pub north: f64,
+}
+
 /// A layer of features with its index.
 #[derive(Debug, Default)]
 pub struct Layer {
@@ -58,31 +104,335 @@ pub struct Layer {
     tree: RTree<Entry>,
     /// True when some feature's box was split at the antimeridian.
     split_boxes: bool,
+    /// The feature ids, sorted.
+    ids: Vec<i64>,
+    extent: Option<Extent>,
+}
+
+/// Everything of a layer but its features: built while the layer it
+/// replaces still answers queries, then joined to the features by
+/// [`Layer::assemble`].
+#[derive(Debug)]
+pub struct LayerIndex {
+    tree: RTree<Entry>,
+    split_boxes: bool,
+    ids: Vec<i64>,
+    extent: Option<Extent>,
+    len: usize,
+}
+
+/// What [`Layer::index`] gathers; [`IndexInput::load`] builds the R*-tree
+/// from it (one bulk load that cannot be stopped part way: about a second
+/// per million features here).
+#[derive(Debug)]
+pub struct IndexInput {
+    entries: Vec<Entry>,
+    split_boxes: bool,
+    ids: Vec<i64>,
+    extent: Option<Extent>,
+    len: usize,
+}
+
+impl IndexInput {
+    /// Bulk loads the R*-tree (its size was probed by [`Layer::index`]).
+    pub fn load(self) -> LayerIndex {
+        LayerIndex {
+            tree: RTree::bulk_load(self.entries),
+            split_boxes: self.split_boxes,
+            ids: self.ids,
+            extent: self.extent,
+            len: self.len,
+        }
+    }
+}
+
+/// Longitude spans and latitude ranges gathered for an [`Extent`]: the
+/// spans placed with their west ends in [-180, 180) and, separately, in
+/// [0, 360); the narrower of the two results is the extent (exact when the
+/// layer leaves some gap at the antimeridian or at the prime meridian, and
+/// always covering every vertex).
+#[derive(Clone, Copy, Debug)]
+struct ExtentSum {
+    lo: [f64; 2],
+    hi: [f64; 2],
+    south: f64,
+    north: f64,
+    whole_circle: bool,
+    any: bool,
+}
+
+impl Default for ExtentSum {
+    fn default() -> Self {
+        ExtentSum {
+            lo: [f64::INFINITY; 2],
+            hi: [f64::NEG_INFINITY; 2],
+            south: f64::INFINITY,
+            north: f64::NEG_INFINITY,
+            whole_circle: false,
+            any: false,
+        }
+    }
+}
+
+impl ExtentSum {
+    /// Adds one feature's vertices: its longitudes unwrapped along each
+    /// line and ring (consecutive vertices less than 180 degrees apart, as
+    /// geodesic edges are), parts placed near the feature's first vertex.
+    fn add(&mut self, g: &Prepared) {
+        let chains = g.lines.iter().chain(g.polygons.iter().flatten());
+        let Some(first) = g
+            .points
+            .first()
+            .or_else(|| chains.clone().flat_map(|c| c.first()).next())
+        else {
+            return;
+        };
+        let (mut lo, mut hi) = (0.0f64, 0.0f64);
+        let (mut south, mut north) = (first.1, first.1);
+        for p in &g.points {
+            let x = wrap_delta(first.0, p.0);
+            lo = lo.min(x);
+            hi = hi.max(x);
+            south = south.min(p.1);
+            north = north.max(p.1);
+        }
+        for chain in chains {
+            let Some(start) = chain.first() else { continue };
+            let mut x = wrap_delta(first.0, start.0);
+            let mut prev = start.0;
+            for p in chain {
+                x += wrap_delta(prev, p.0);
+                prev = p.0;
+                lo = lo.min(x);
+                hi = hi.max(x);
+                south = south.min(p.1);
+                north = north.max(p.1);
+            }
+        }
+        self.any = true;
+        self.south = self.south.min(south);
+        self.north = self.north.max(north);
+        if hi - lo >= 360.0 {
+            self.whole_circle = true;
+            return;
+        }
+        let (lo, hi) = (first.0 + lo, first.0 + hi);
+        for (k, base) in [-180.0, 0.0].into_iter().enumerate() {
+            let shift = 360.0 * ((lo - base) / 360.0).floor();
+            self.lo[k] = self.lo[k].min(lo - shift);
+            self.hi[k] = self.hi[k].max(hi - shift);
+        }
+    }
+
+    fn extent(&self) -> Option<Extent> {
+        if !self.any {
+            return None;
+        }
+        let k = if self.hi[1] - self.lo[1] < self.hi[0] - self.lo[0] {
+            1
+        } else {
+            0
+        };
+        let (west, east) = if self.whole_circle || self.hi[k] - self.lo[k] >= 360.0 {
+            (-180.0, 180.0)
+        } else {
+            (wrap180(self.lo[k]), wrap180(self.hi[k]))
+        };
+        Some(Extent {
+            west,
+            south: self.south,
+            east,
+            north: self.north,
+        })
+    }
+}
+
+/// A longitude in (-180, 180] (180 stays 180; -180 stays -180).
+fn wrap180(x: f64) -> f64 {
+    if (-180.0..=180.0).contains(&x) {
+        x
+    } else {
+        -wrap_delta(x, 0.0)
+    }
 }
 
 impl Layer {
-    /// A layer of these features (in any order), indexed.
+    /// A layer of these features (in any order), indexed. Ids are not
+    /// checked (see [`Layer::check_ids`]); panics if memory runs out.
     pub fn new(features: Vec<Feature>) -> Layer {
-        let entries: Vec<Entry> = features
-            .iter()
-            .enumerate()
-            .filter_map(|(i, f)| f.geometry.bbox.map(|b| (i, b.grown(f.reach))))
-            .flat_map(|(i, b)| {
-                b.normalised()
-                    .into_iter()
-                    .map(move |r| GeomWithData::new(Rectangle::from_aabb(r), i as u32))
-            })
-            .collect();
-        let split_boxes = entries.len()
-            > features
-                .iter()
-                .filter(|f| f.geometry.bbox.is_some())
-                .count();
-        Layer {
-            tree: RTree::bulk_load(entries),
-            features,
-            split_boxes,
+        let mut ids: Vec<i64> = features.iter().map(|f| f.id).collect();
+        ids.sort_unstable();
+        let index = Layer::index(&[], &features, ids, &Never)
+            .unwrap_or_else(|e| panic!("indexing a layer: {e}"))
+            .load();
+        Layer::assemble(index, features)
+    }
+
+    /// Prepares the features `rows` (id, reach in metres, geometry) on all
+    /// cores, in batches, freeing each geometry once prepared. `stop` is
+    /// read by every worker (between batches and inside large features);
+    /// `progress` is told the number of features done after each batch.
+    /// The result keeps the order of `rows`. Memory for the result is
+    /// reserved first and every large array is allocated fallibly, so
+    /// running out of memory is `Err(GeomError::OutOfMemory)`, not an
+    /// abort; call [`Layer::estimated_bytes`] and [`memory::probe`] first
+    /// to refuse a build that cannot fit before any work is done.
+    pub fn prepare(
+        rows: Vec<(i64, f64, Geometry)>,
+        stop: &(dyn Interrupt + Sync),
+        progress: &(dyn Fn(usize) + Sync),
+    ) -> Result<Vec<Feature>, GeomError> {
+        let mut out: Vec<Feature> = memory::vec_with_capacity(rows.len())?;
+        let mut rows = rows.into_iter();
+        let result = loop {
+            if let Err(e) = stop.check() {
+                break Err(e);
+            }
+            let mut batch = match memory::vec_with_capacity(BATCH_FEATURES) {
+                Ok(b) => b,
+                Err(e) => break Err(e),
+            };
+            let mut vertices = 0;
+            while batch.len() < BATCH_FEATURES && vertices < BATCH_VERTICES {
+                let Some(row) = rows.next() else { break };
+                vertices += row.2.vertex_count();
+                batch.push(row);
+            }
+            if batch.is_empty() {
+                break Ok(());
+            }
+            let prepared: Result<Vec<Feature>, GeomError> = batch
+                .into_par_iter()
+                .map(|(id, reach, g)| {
+                    stop.check()?;
+                    Feature::build(id, reach, &g, stop)
+                })
+                .collect();
+            match prepared {
+                Ok(p) => out.extend(p),
+                Err(e) => break Err(e),
+            }
+            progress(out.len());
+        };
+        match result {
+            Ok(()) => Ok(out),
+            Err(e) => {
+                // Stopped: what was done is freed in the background.
+                memory::discard((out, rows));
+                Err(e)
+            }
         }
+    }
+
+    /// An estimate, in bytes, of the memory building a layer of `rows`
+    /// needs on top of what the rows hold: their prepared geometries, the
+    /// features and the layer's index (rounded up; see
+    /// [`Prepared::estimated_bytes`]).
+    pub fn estimated_bytes<'g>(
+        count: usize,
+        geometries: impl Iterator<Item = &'g Geometry>,
+    ) -> usize {
+        let prepared: usize = geometries.map(Prepared::estimated_bytes).sum();
+        prepared
+            + count.saturating_mul(std::mem::size_of::<Feature>() + std::mem::size_of::<i64>())
+            + tree_bytes(count, std::mem::size_of::<Entry>())
+    }
+
+    /// Checks the ids `added` (in the order they come) for a layer that
+    /// already holds `base`'s features: an id `base` holds, or one given
+    /// twice, is `Err(GeomError::DuplicateFeatureId)` (the first such id
+    /// met; ids `base` holds are looked for first). Returns every id of the
+    /// layer-to-be, sorted.
+    pub fn check_ids(base: Option<&Layer>, added: &[i64]) -> Result<Vec<i64>, GeomError> {
+        if let Some(base) = base {
+            if let Some(&id) = added.iter().find(|&&id| base.holds(id)) {
+                return Err(GeomError::DuplicateFeatureId { id, earlier: true });
+            }
+        }
+        let mut sorted = memory::vec_with_capacity(added.len())?;
+        sorted.extend_from_slice(added);
+        sorted.sort_unstable();
+        if let Some(w) = sorted.windows(2).find(|w| w[0] == w[1]) {
+            // The first id, in the order given, that is given twice.
+            let given_twice =
+                |id: &i64| sorted.get(sorted.partition_point(|x| x < id) + 1) == Some(id);
+            let id = added.iter().copied().find(given_twice).unwrap_or(w[0]);
+            return Err(GeomError::DuplicateFeatureId { id, earlier: false });
+        }
+        let old = base.map_or(&[][..], |b| &b.ids[..]);
+        let mut all = memory::vec_with_capacity(old.len() + sorted.len())?;
+        let (mut i, mut j) = (0, 0);
+        while i < old.len() || j < sorted.len() {
+            if j == sorted.len() || (i < old.len() && old[i] < sorted[j]) {
+                all.push(old[i]);
+                i += 1;
+            } else {
+                all.push(sorted[j]);
+                j += 1;
+            }
+        }
+        Ok(all)
+    }
+
+    /// True when the layer holds a feature with this id.
+    pub fn holds(&self, id: i64) -> bool {
+        self.ids.binary_search(&id).is_ok()
+    }
+
+    /// The index of a layer holding `base` followed by `added` (the
+    /// features keep those positions), whose sorted ids are `ids` (from
+    /// [`Layer::check_ids`]). Reads `stop` every few thousand features;
+    /// every array is allocated fallibly and the R*-tree's size is probed
+    /// before its bulk load. Changes nothing outside its result.
+    pub fn index(
+        base: &[Feature],
+        added: &[Feature],
+        ids: Vec<i64>,
+        stop: &dyn Interrupt,
+    ) -> Result<IndexInput, GeomError> {
+        let len = base.len() + added.len();
+        let mut entries: Vec<Entry> = memory::vec_with_capacity(len)?;
+        let mut with_box = 0;
+        let mut extent = ExtentSum::default();
+        for (i, f) in base.iter().chain(added).enumerate() {
+            if i % CHECK_EVERY == CHECK_EVERY - 1 {
+                stop.check()?;
+            }
+            extent.add(&f.geometry);
+            let Some(b) = f.geometry.bbox else { continue };
+            with_box += 1;
+            for r in b.grown(f.reach).normalised() {
+                memory::reserve_one(&mut entries)?;
+                entries.push(GeomWithData::new(Rectangle::from_aabb(r), i as u32));
+            }
+        }
+        stop.check()?;
+        memory::probe(tree_bytes(entries.len(), std::mem::size_of::<Entry>()))?;
+        Ok(IndexInput {
+            split_boxes: entries.len() > with_box,
+            entries,
+            ids,
+            extent: extent.extent(),
+            len,
+        })
+    }
+
+    /// The layer of `index` and its `features` (the `base` features of
+    /// [`Layer::index`] followed by the `added` ones).
+    pub fn assemble(index: LayerIndex, features: Vec<Feature>) -> Layer {
+        debug_assert_eq!(index.len, features.len());
+        Layer {
+            features,
+            tree: index.tree,
+            split_boxes: index.split_boxes,
+            ids: index.ids,
+            extent: index.extent,
+        }
+    }
+
+    /// The extent of the layer's vertices (`None` for an empty layer).
+    pub fn extent(&self) -> Option<Extent> {
+        self.extent
     }
 
     /// The features, in the order they were added.
@@ -95,6 +445,21 @@ impl Layer {
         self.features
     }
 
+    /// The features and the index, apart (see [`Layer::assemble`]).
+    pub fn into_parts(self) -> (Vec<Feature>, LayerIndex) {
+        let len = self.features.len();
+        (
+            self.features,
+            LayerIndex {
+                tree: self.tree,
+                split_boxes: self.split_boxes,
+                ids: self.ids,
+                extent: self.extent,
+                len,
+            },
+        )
+    }
+
     /// Total vertices of all features.
     pub fn vertices(&self) -> usize {
         self.features.iter().map(|f| f.vertices).sum()
@@ -102,7 +467,9 @@ impl Layer {
 
     /// Memory held by the layer, bytes (approximate).
     pub fn bytes(&self) -> usize {
-        self.features.iter().map(Feature::bytes).sum::<usize>() + self.tree.size() * 48
+        self.features.iter().map(Feature::bytes).sum::<usize>()
+            + self.tree.size() * 48
+            + self.ids.capacity() * std::mem::size_of::<i64>()
     }
 
     /// Features whose reach-grown boxes meet `g`'s box grown by `grow_m`,
@@ -165,22 +532,51 @@ impl Layer {
     /// True when some feature lies within its reach of `g`; stops at the
     /// first one found. False for an empty `g`.
     pub fn reached(&self, g: &Prepared) -> bool {
-        self.candidates(g, 0.0).into_iter().any(|i| {
+        self.reached_until(g, &Never).unwrap_or(false)
+    }
+
+    /// [`Layer::reached`], reading `stop` between candidates (every
+    /// [`CHECK_CANDIDATES`]): `Err(GeomError::Interrupted)` when asked to stop.
+    pub fn reached_until(&self, g: &Prepared, stop: &dyn Interrupt) -> Result<bool, GeomError> {
+        for (k, i) in self.candidates(g, 0.0).into_iter().enumerate() {
+            if k % CHECK_CANDIDATES == CHECK_CANDIDATES - 1 {
+                stop.check()?;
+            }
             let f = &self.features[i];
-            within(g, &f.geometry, f.reach)
-        })
+            if within(g, &f.geometry, f.reach) {
+                return Ok(true);
+            }
+        }
+        Ok(false)
     }
 
     /// The number of features within their reach of `g`, or within
     /// `metres` of it when given.
     pub fn count(&self, g: &Prepared, metres: Option<f64>) -> usize {
-        self.candidates(g, metres.unwrap_or(0.0))
+        self.count_until(g, metres, &Never).unwrap_or(0)
+    }
+
+    /// [`Layer::count`], reading `stop` between candidates (every
+    /// [`CHECK_CANDIDATES`]): `Err(GeomError::Interrupted)` when asked to stop.
+    pub fn count_until(
+        &self,
+        g: &Prepared,
+        metres: Option<f64>,
+        stop: &dyn Interrupt,
+    ) -> Result<usize, GeomError> {
+        let mut n = 0;
+        for (k, i) in self
+            .candidates(g, metres.unwrap_or(0.0))
             .into_iter()
-            .filter(|&i| {
-                let f = &self.features[i];
-                within(g, &f.geometry, metres.unwrap_or(f.reach))
-            })
-            .count()
+            .enumerate()
+        {
+            if k % CHECK_CANDIDATES == CHECK_CANDIDATES - 1 {
+                stop.check()?;
+            }
+            let f = &self.features[i];
+            n += usize::from(within(g, &f.geometry, metres.unwrap_or(f.reach)));
+        }
+        Ok(n)
     }
 
     /// `(feature id, distance in metres)` of every feature within its reach
@@ -203,13 +599,22 @@ impl Layer {
     /// or `g` is empty). The search widens from 1 km by factors of 4 until
     /// a feature is found.
     pub fn nearest(&self, g: &Prepared, max_m: Option<f64>) -> Option<f64> {
-        self.nearest_feature(g, max_m).map(|(d, _)| d)
+        self.nearest_until(g, max_m, &Never).unwrap_or(None)
     }
 
-    /// [`Layer::nearest`] with the position of the nearest feature (the
-    /// first added among equally near ones).
-    fn nearest_feature(&self, g: &Prepared, max_m: Option<f64>) -> Option<(f64, usize)> {
-        self.nearest_search(g, max_m, &mut None)
+    /// [`Layer::nearest`], reading `stop` between candidates (every
+    /// [`CHECK_CANDIDATES`]) and between rounds of the widening search:
+    /// `Err(GeomError::Interrupted)` when asked to stop. Far from every
+    /// feature of a large layer the last rounds look at every feature.
+    pub fn nearest_until(
+        &self,
+        g: &Prepared,
+        max_m: Option<f64>,
+        stop: &dyn Interrupt,
+    ) -> Result<Option<f64>, GeomError> {
+        Ok(self
+            .nearest_search(g, max_m, &mut None, stop)?
+            .map(|(d, _)| d))
     }
 
     /// The nearest feature within `max_m`, widening from 1 km by factors of
@@ -221,18 +626,22 @@ impl Layer {
         g: &Prepared,
         max_m: Option<f64>,
         first_candidates: &mut Option<Vec<usize>>,
-    ) -> Option<(f64, usize)> {
-        let ball = g.ball?;
+        stop: &dyn Interrupt,
+    ) -> Result<Option<(f64, usize)>, GeomError> {
+        let Some(ball) = g.ball else {
+            return Ok(None);
+        };
         let limit = max_m.unwrap_or(MAX_SEPARATION).min(MAX_SEPARATION);
         let mut radius = limit.min(1000.0);
         loop {
+            stop.check()?;
             let candidates = self.candidates(g, radius);
-            let best = self.best_first(g, &ball, &candidates, radius);
+            let best = self.best_first(g, &ball, &candidates, radius, stop)?;
             if first_candidates.is_none() {
                 *first_candidates = Some(candidates);
             }
             if best.is_some() || radius >= limit {
-                return best;
+                return Ok(best);
             }
             radius = (radius * 4.0).min(limit);
         }
@@ -250,7 +659,8 @@ impl Layer {
         ball: &crate::proximity::prepared::Ball,
         candidates: &[usize],
         radius: f64,
-    ) -> Option<(f64, usize)> {
+        stop: &dyn Interrupt,
+    ) -> Result<Option<(f64, usize)>, GeomError> {
         let mut ranked: Vec<(bool, f64, usize)> = candidates
             .iter()
             .filter_map(|&i| {
@@ -261,7 +671,10 @@ impl Layer {
             .collect();
         ranked.sort_unstable_by(|x, y| x.0.cmp(&y.0).then(x.1.total_cmp(&y.1)).then(x.2.cmp(&y.2)));
         let mut best: Option<(f64, usize)> = None;
-        for (_, lower, i) in ranked {
+        for (k, (_, lower, i)) in ranked.into_iter().enumerate() {
+            if k % CHECK_CANDIDATES == CHECK_CANDIDATES - 1 {
+                stop.check()?;
+            }
             let cap = best.map_or(radius, |b| b.0).min(radius);
             if lower > cap {
                 continue;
@@ -276,7 +689,7 @@ impl Layer {
                 }
             }
         }
-        best
+        Ok(best)
     }
 
     /// `reached` and `nearest` at once, as the sweep reports them: when
@@ -286,7 +699,9 @@ impl Layer {
     /// tested.
     pub fn reached_and_nearest(&self, g: &Prepared) -> (bool, Option<f64>) {
         let mut first = None;
-        let nearest = self.nearest_search(g, None, &mut first);
+        let nearest = self
+            .nearest_search(g, None, &mut first, &Never)
+            .unwrap_or(None);
         let reached = match nearest {
             Some((d, i)) if d <= self.features[i].reach => true,
             _ => first.unwrap_or_default().into_iter().any(|i| {
@@ -352,6 +767,103 @@ mod tests {
         let far = prep("POINT (-179.97 -16.0)");
         assert!(!layer.reached(&far));
         assert!(layer.nearest(&far, None).unwrap() > 600.0);
+    }
+
+    #[test]
+    fn ids_already_held_or_given_twice_are_refused() {
+        let layer = Layer::new(vec![
+            feature(5, "POINT (1 2)", 0.0),
+            feature(2, "POINT (1 3)", 0.0),
+        ]);
+        assert_eq!(
+            Layer::check_ids(Some(&layer), &[9, 2, 9]),
+            Err(GeomError::DuplicateFeatureId {
+                id: 2,
+                earlier: true
+            })
+        );
+        // The first id given twice, in the order given.
+        assert_eq!(
+            Layer::check_ids(None, &[4, 8, 3, 8, 4]),
+            Err(GeomError::DuplicateFeatureId {
+                id: 4,
+                earlier: false
+            })
+        );
+        assert_eq!(
+            Layer::check_ids(Some(&layer), &[7, 1]),
+            Ok(vec![1, 2, 5, 7])
+        );
+        assert!(layer.holds(5) && !layer.holds(7));
+    }
+
+    #[test]
+    fn the_extent_is_that_of_the_vertices_and_may_cross_the_antimeridian() {
+        // Vertex extremes, read off the coordinates below (brute force).
+        let layer = Layer::new(vec![
+            feature(1, "POINT (-131.5 38.2)", 5000.0),
+            feature(2, "LINESTRING (-131.2 38.6, -130.9 38.1)", 0.0),
+        ]);
+        let e = layer.extent().unwrap();
+        assert_eq!(
+            (e.west, e.south, e.east, e.north),
+            (-131.5, 38.1, -130.9, 38.6)
+        );
+        // A line across 180 and a point east of it: west > east.
+        let layer = Layer::new(vec![
+            feature(1, "LINESTRING (179.5 -16.2, -179.8 -16.0)", 0.0),
+            feature(2, "POINT (-179.25 -15.9)", 0.0),
+        ]);
+        let e = layer.extent().unwrap();
+        assert_eq!(
+            (e.west, e.south, e.east, e.north),
+            (179.5, -16.2, -179.25, -15.9)
+        );
+        // Features on both sides of the globe, with a gap at 0 degrees.
+        let layer = Layer::new(vec![
+            feature(1, "POINT (100 1)", 0.0),
+            feature(2, "POINT (-100 2)", 0.0),
+        ]);
+        let e = layer.extent().unwrap();
+        assert_eq!((e.west, e.east), (100.0, -100.0));
+        // A ring around the north pole spans every longitude.
+        let layer = Layer::new(vec![feature(
+            1,
+            "POLYGON ((0 80, 90 80, 180 80, -90 80, 0 80))",
+            0.0,
+        )]);
+        let e = layer.extent().unwrap();
+        assert_eq!((e.west, e.east, e.south), (-180.0, 180.0, 80.0));
+        assert_eq!(Layer::new(vec![]).extent(), None);
+    }
+
+    #[test]
+    fn an_interrupted_preparation_returns_interrupted() {
+        use crate::interrupt::AfterChecks;
+        // A ring of 200,000 vertices: several checks while it is prepared.
+        let n = 200_000;
+        let ring: Vec<String> = (0..n)
+            .map(|k| {
+                let t = std::f64::consts::TAU * k as f64 / n as f64;
+                format!("{} {}", -131.0 + 0.2 * t.cos(), 38.4 + 0.2 * t.sin())
+            })
+            .chain(std::iter::once("-130.8 38.4".to_string()))
+            .collect();
+        let g = wkt::parse(&format!("POLYGON (({}))", ring.join(", "))).unwrap();
+        for after in [0, 1, 2] {
+            assert_eq!(
+                Prepared::build(&g, &AfterChecks::new(after)).err(),
+                Some(GeomError::Interrupted)
+            );
+        }
+        assert!(Prepared::build(&g, &Never).is_ok());
+        let stop = crate::interrupt::StopFlag::new();
+        stop.set();
+        let rows = vec![(1, 0.0, g)];
+        assert_eq!(
+            Layer::prepare(rows, &stop, &|_| {}).err(),
+            Some(GeomError::Interrupted)
+        );
     }
 
     #[test]

@@ -20,8 +20,11 @@
 use rstar::primitives::{GeomWithData, Rectangle};
 use rstar::{RTree, AABB};
 
+use crate::error::GeomError;
 use crate::geodesy::{inverse, local};
 use crate::geometry::{Geometry, Shape};
+use crate::interrupt::{Interrupt, Never};
+use crate::memory;
 use crate::proximity::boxes::LonLatBox;
 
 /// A (longitude, latitude) pair in degrees.
@@ -211,12 +214,16 @@ pub struct Prepared {
     pub split_boxes: bool,
 }
 
-fn lonlat(part: &[f64], width: usize, ring: bool) -> Vec<LonLat> {
-    let chain: Vec<LonLat> = part.chunks_exact(width).map(|v| (v[0], v[1])).collect();
+/// The (lon, lat) pairs of an interleaved part (a closed ring when
+/// `ring`), in an array allocated fallibly, with vertices at a pole given
+/// the meridian of their edge ([`meridians_at_poles`]).
+fn lonlat(part: &[f64], width: usize, ring: bool) -> Result<Vec<LonLat>, GeomError> {
+    let mut chain = memory::vec_with_capacity(part.len() / width)?;
+    chain.extend(part.chunks_exact(width).map(|v| (v[0], v[1])));
     if chain.iter().any(|p| at_pole(*p)) {
-        meridians_at_poles(&chain, ring)
+        Ok(meridians_at_poles(&chain, ring))
     } else {
-        chain
+        Ok(chain)
     }
 }
 
@@ -260,86 +267,148 @@ pub fn meridians_at_poles(chain: &[LonLat], ring: bool) -> Vec<LonLat> {
     out
 }
 
+/// How many elements of work pass between two interrupt checks.
+const CHECK_EVERY: usize = 1 << 16;
+
+/// Bytes an R*-tree of `n` entries of `entry` bytes takes while it is
+/// bulk loaded and once built: the entries, the nodes above them (rstar
+/// stores each entry in a node enum of about 64 bytes; parents add about
+/// a tenth), and the slabs the bulk load sorts (a second copy of the
+/// entries). An estimate for [`memory::probe`], rounded up.
+pub fn tree_bytes(n: usize, entry: usize) -> usize {
+    n.saturating_mul(2 * entry + 72)
+}
+
 impl Prepared {
     /// Prepares a geometry that has passed [`crate::geometry::validate`].
     /// Empty parts are dropped.
+    ///
+    /// Panics (an SQL error under the SQL layer's guard, not an abort) when
+    /// memory runs out; callers that can report errors use
+    /// [`Prepared::build`].
     pub fn new(g: &Geometry) -> Prepared {
-        let mut p = Prepared::default();
-        p.add(g);
-        p.index();
-        p
+        Prepared::build(g, &Never).unwrap_or_else(|e| panic!("preparing a geometry: {e}"))
     }
 
-    fn add(&mut self, g: &Geometry) {
+    /// [`Prepared::new`], asking `stop` every [`CHECK_EVERY`] elements
+    /// whether to give up (then `Err(GeomError::Interrupted)`), and with
+    /// its big arrays allocated fallibly (`Err(GeomError::OutOfMemory)`
+    /// instead of aborting the process). Nothing outside the value is
+    /// changed either way.
+    pub fn build(g: &Geometry, stop: &dyn Interrupt) -> Result<Prepared, GeomError> {
+        let mut p = Prepared::default();
+        p.add(g)?;
+        p.index(stop)?;
+        Ok(p)
+    }
+
+    /// An estimate, in bytes, of the memory [`Prepared::build`] needs for
+    /// `g` while it works and afterwards (rounded up): per vertex its
+    /// (lon, lat) pair, its element with ball, owner and Earth-centred
+    /// coordinates, and for an indexed geometry the R*-tree.
+    pub fn estimated_bytes(g: &Geometry) -> usize {
+        let n = g.vertex_count();
+        let per_vertex = std::mem::size_of::<LonLat>()
+            + std::mem::size_of::<(Element, Ball)>()
+            + std::mem::size_of::<Option<RingRef>>()
+            + std::mem::size_of::<[f64; 3]>();
+        let tree = if n > ELEMENT_INDEX_MIN {
+            tree_bytes(n, std::mem::size_of::<IndexEntry>())
+        } else {
+            0
+        };
+        std::mem::size_of::<Prepared>() + n.saturating_mul(per_vertex) + tree
+    }
+
+    fn add(&mut self, g: &Geometry) -> Result<(), GeomError> {
         let width = g.dims.width();
-        let add_polygon = |rings: &[Vec<f64>], this: &mut Prepared| {
-            let rings: Vec<Vec<LonLat>> = rings
-                .iter()
-                .filter(|r| !r.is_empty())
-                .map(|r| lonlat(r, width, true))
-                .collect();
-            if !rings.is_empty() {
-                this.polygons.push(rings);
+        let add_polygon = |rings: &[Vec<f64>], this: &mut Prepared| -> Result<(), GeomError> {
+            let mut out: Vec<Vec<LonLat>> = memory::vec_with_capacity(rings.len())?;
+            for r in rings.iter().filter(|r| !r.is_empty()) {
+                out.push(lonlat(r, width, true)?);
             }
+            if !out.is_empty() {
+                memory::reserve_one(&mut this.polygons)?;
+                this.polygons.push(out);
+            }
+            Ok(())
         };
         match &g.shape {
             Shape::Point(v) if !v.is_empty() => self.points.push((v[0], v[1])),
             Shape::Point(_) => {}
             Shape::LineString(v) => {
                 if !v.is_empty() {
-                    self.lines.push(lonlat(v, width, false));
+                    self.lines.push(lonlat(v, width, false)?);
                 }
             }
-            Shape::Polygon(rings) => add_polygon(rings, self),
+            Shape::Polygon(rings) => add_polygon(rings, self)?,
             Shape::MultiPoint(points) => {
+                memory::reserve(&mut self.points, points.len())?;
                 for v in points.iter().filter(|v| !v.is_empty()) {
                     self.points.push((v[0], v[1]));
                 }
             }
             Shape::MultiLineString(lines) => {
+                memory::reserve(&mut self.lines, lines.len())?;
                 for v in lines.iter().filter(|v| !v.is_empty()) {
-                    self.lines.push(lonlat(v, width, false));
+                    self.lines.push(lonlat(v, width, false)?);
                 }
             }
             Shape::MultiPolygon(polygons) => {
                 for rings in polygons {
-                    add_polygon(rings, self);
+                    add_polygon(rings, self)?;
                 }
             }
             Shape::GeometryCollection(members) => {
                 for m in members {
-                    self.add(m);
+                    self.add(m)?;
                 }
             }
         }
+        Ok(())
     }
 
-    fn index(&mut self) {
-        let mut elements = Vec::new();
-        let mut owners = Vec::new();
+    fn index(&mut self, stop: &dyn Interrupt) -> Result<(), GeomError> {
+        let chains = self
+            .lines
+            .iter()
+            .chain(self.polygons.iter().flatten())
+            .map(|c| c.len().saturating_sub(1))
+            .sum::<usize>();
+        let total = self.points.len() + chains;
+        let mut elements = memory::vec_with_capacity(total)?;
+        let mut owners = memory::vec_with_capacity(total)?;
         for &p in &self.points {
             elements.push((Element::Point(p), Ball::point(p)));
             owners.push(None);
         }
-        let edges = |chain: &[LonLat], out: &mut Vec<(Element, Ball)>| {
-            let xyz: Vec<[f64; 3]> = chain.iter().map(|&p| ecef(p)).collect();
-            for k in 0..chain.len().saturating_sub(1) {
-                let (a, b) = (chain[k], chain[k + 1]);
-                out.push((
-                    Element::Edge(a, b),
-                    Ball::edge_from(a, b, &xyz[k], &xyz[k + 1]),
-                ));
-            }
-        };
+        let mut xyz: Vec<[f64; 3]> = Vec::new();
+        let mut edges =
+            |chain: &[LonLat], out: &mut Vec<(Element, Ball)>| -> Result<(), GeomError> {
+                xyz.clear();
+                memory::reserve(&mut xyz, chain.len())?;
+                xyz.extend(chain.iter().map(|&p| ecef(p)));
+                for k in 0..chain.len().saturating_sub(1) {
+                    if k % CHECK_EVERY == CHECK_EVERY - 1 {
+                        stop.check()?;
+                    }
+                    let (a, b) = (chain[k], chain[k + 1]);
+                    out.push((
+                        Element::Edge(a, b),
+                        Ball::edge_from(a, b, &xyz[k], &xyz[k + 1]),
+                    ));
+                }
+                Ok(())
+            };
         for line in &self.lines {
-            edges(line, &mut elements);
+            edges(line, &mut elements)?;
             owners.resize(elements.len(), None);
         }
         for (pi, rings) in self.polygons.iter().enumerate() {
             let mut flags = Vec::with_capacity(rings.len());
             for (ri, ring) in rings.iter().enumerate() {
                 flags.push(crate::proximity::contain::encloses_north_pole(ring));
-                edges(ring, &mut elements);
+                edges(ring, &mut elements)?;
                 owners.resize(
                     elements.len(),
                     Some(RingRef {
@@ -350,22 +419,30 @@ impl Prepared {
             }
             self.north_pole_rings.push(flags);
         }
+        drop(xyz);
+        stop.check()?;
         self.ball = whole_ball(&elements);
         self.bbox = bounding_box(&elements);
         if elements.len() > ELEMENT_INDEX_MIN {
-            let boxes: Vec<LonLatBox> = elements
-                .iter()
-                .map(|(_, b)| LonLatBox::around(b, 0.0))
-                .collect();
-            let entries: Vec<IndexEntry> = boxes
-                .iter()
-                .enumerate()
-                .flat_map(|(i, b)| b.normalised().into_iter().map(move |r| entry(r, i as u32)))
-                .collect();
+            // At most two boxes per element (split at the antimeridian).
+            let mut entries: Vec<IndexEntry> = memory::vec_with_capacity(elements.len())?;
+            for (i, (_, b)) in elements.iter().enumerate() {
+                if i % CHECK_EVERY == CHECK_EVERY - 1 {
+                    stop.check()?;
+                }
+                for r in LonLatBox::around(b, 0.0).normalised() {
+                    memory::reserve_one(&mut entries)?;
+                    entries.push(entry(r, i as u32));
+                }
+            }
+            stop.check()?;
+            self.split_boxes = entries.len() > elements.len();
+            memory::probe(tree_bytes(entries.len(), std::mem::size_of::<IndexEntry>()))?;
             self.index = Some(RTree::bulk_load(entries));
         }
         self.elements = elements;
         self.owners = owners;
+        Ok(())
     }
 
     /// Positions in `elements` of the elements whose boxes meet `query`

@@ -115,6 +115,17 @@ fn statement_interrupted(db: *mut ffi::sqlite3) -> bool {
     }
 }
 
+impl HostInterrupt<'_> {
+    /// Asks SQLite now, whenever the last question was asked: for a
+    /// decision that must not wait for the next poll (ambit_layer's
+    /// finalisation, which SQLite also calls to clean up after an
+    /// interrupted statement).
+    pub fn requested_now(&self) -> bool {
+        self.next_poll.set(Instant::now());
+        self.requested()
+    }
+}
+
 impl Interrupt for HostInterrupt<'_> {
     fn requested(&self) -> bool {
         if self.seen.get() {

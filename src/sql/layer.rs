@@ -5,16 +5,19 @@
 
 use std::sync::Arc;
 
-use rayon::prelude::*;
 use rusqlite::functions::{Aggregate, Context, FunctionFlags};
 use rusqlite::types::Value;
 use rusqlite::Connection;
 
 use crate::blob;
+use crate::error::GeomError;
 use crate::geometry::Geometry;
+use crate::interrupt::Interrupt;
+use crate::memory;
 use crate::proximity::{Feature, Layer, Prepared};
+use crate::sql::interrupt::{run_parallel, HostInterrupt};
 use crate::sql::state::ConnState;
-use crate::sql::{guard, Args, SqlFunction, SqlResult};
+use crate::sql::{error, guard, interrupted, progress, Args, SqlFunction, SqlResult};
 
 pub const FUNCTIONS: &[SqlFunction] = &[
     SqlFunction {
@@ -81,14 +84,30 @@ fn query(args: &Args) -> rusqlite::Result<Option<(Arc<Layer>, Prepared)>> {
     let Some(layer) = layer_arg(args)? else {
         return Ok(None);
     };
-    Ok(args
-        .geometry(1)?
-        .map(|d| (layer, Prepared::new(&d.geometry))))
+    match args.geometry(1)? {
+        None => Ok(None),
+        Some(d) => Prepared::build(&d.geometry, &args.interrupt())
+            .map(|g| Some((layer, g)))
+            .map_err(|e| query_error(args, e)),
+    }
+}
+
+/// The SQL error for a question about a layer that did not finish.
+fn query_error(args: &Args, e: GeomError) -> rusqlite::Error {
+    match e {
+        GeomError::Interrupted => interrupted(args.name()),
+        other => args.fail_arg(1, other),
+    }
 }
 
 fn reached(args: &Args) -> SqlResult {
     Ok(match query(args)? {
-        Some((layer, g)) => Value::Integer(layer.reached(&g).into()),
+        Some((layer, g)) => Value::Integer(
+            layer
+                .reached_until(&g, &args.interrupt())
+                .map_err(|e| query_error(args, e))?
+                .into(),
+        ),
         None => Value::Null,
     })
 }
@@ -96,7 +115,10 @@ fn reached(args: &Args) -> SqlResult {
 fn nearest(args: &Args) -> SqlResult {
     let max_m = distance_arg(args, 2)?;
     Ok(match query(args)? {
-        Some((layer, g)) => layer.nearest(&g, max_m).map_or(Value::Null, Value::Real),
+        Some((layer, g)) => layer
+            .nearest_until(&g, max_m, &args.interrupt())
+            .map_err(|e| query_error(args, e))?
+            .map_or(Value::Null, Value::Real),
         None => Value::Null,
     })
 }
@@ -104,7 +126,11 @@ fn nearest(args: &Args) -> SqlResult {
 fn count(args: &Args) -> SqlResult {
     let metres = distance_arg(args, 2)?;
     Ok(match query(args)? {
-        Some((layer, g)) => Value::Integer(layer.count(&g, metres) as i64),
+        Some((layer, g)) => Value::Integer(
+            layer
+                .count_until(&g, metres, &args.interrupt())
+                .map_err(|e| query_error(args, e))? as i64,
+        ),
         None => Value::Null,
     })
 }
@@ -147,11 +173,86 @@ pub struct Pending {
     name: Option<String>,
     rows: i64,
     features: Vec<(i64, f64, Geometry)>,
+    /// True when the call gives no feature_id (ids are row numbers).
+    implicit_ids: bool,
+    /// The layer this call adds to, as it was at the first row: ids it
+    /// holds are refused at once.
+    base: Option<Arc<Layer>>,
+    /// A row failed: the statement fails, and the finalisation SQLite
+    /// still calls (to clean up) must leave the layer as it was.
+    failed: bool,
+}
+
+/// Runs `work` on the rayon pool while this thread watches `host`; on an
+/// interrupt returns at once (`Err(GeomError::Interrupted)`), leaving the
+/// work to finish and be freed in the background. For work that cannot
+/// stop part way (rstar's bulk load).
+fn detached<T: Send + 'static>(
+    host: &HostInterrupt<'_>,
+    work: impl FnOnce() -> T + Send + 'static,
+) -> Result<T, GeomError> {
+    let (sender, receiver) = std::sync::mpsc::sync_channel(1);
+    rayon::spawn(move || {
+        // A closed channel (the statement was interrupted) drops the value.
+        let _ = sender.send(work());
+    });
+    loop {
+        match receiver.recv_timeout(std::time::Duration::from_millis(5)) {
+            Ok(value) => return Ok(value),
+            Err(std::sync::mpsc::RecvTimeoutError::Timeout) => host.check()?,
+            Err(std::sync::mpsc::RecvTimeoutError::Disconnected) => {
+                return Err(GeomError::Interrupted)
+            }
+        }
+    }
 }
 
 /// The aggregate ambit_layer(name, geom [, reach_m [, feature_id]]).
 struct LayerBuilder {
     state: Arc<ConnState>,
+}
+
+/// The SQL error for a layer that could not be built from `count`
+/// features (of which an estimated `bytes` of memory were needed).
+fn build_error(
+    name: &str,
+    count: usize,
+    bytes: usize,
+    implicit_ids: bool,
+    e: GeomError,
+) -> rusqlite::Error {
+    match e {
+        GeomError::Interrupted => interrupted(LAYER),
+        GeomError::OutOfMemory { .. } => error(
+            LAYER,
+            format!(
+                "not enough memory for layer '{name}' ({count} features, about {}): {e}; the layer is unchanged. \
+                 Build it from fewer or simpler features, or allow the process more memory",
+                memory::describe_bytes(bytes)
+            ),
+        ),
+        GeomError::DuplicateFeatureId { id, earlier: true } => error(
+            LAYER,
+            format!(
+                "layer '{name}' already holds feature id {id}{}; a layer never holds an id twice \
+                 (adding the same rows again would count them twice): drop it first with \
+                 SELECT ambit_layer_drop('{name}'), or give these features new ids; the layer is unchanged",
+                if implicit_ids {
+                    " (without feature_id, the features of every call are numbered 1, 2, ...)"
+                } else {
+                    ""
+                }
+            ),
+        ),
+        GeomError::DuplicateFeatureId { id, earlier: false } => error(
+            LAYER,
+            format!(
+                "feature id {id} is given twice for layer '{name}'; a layer never holds an id twice: \
+                 give every feature its own id (a table's primary key, for example); the layer is unchanged"
+            ),
+        ),
+        other => error(LAYER, format!("layer '{name}': {other}")),
+    }
 }
 
 impl LayerBuilder {
@@ -161,7 +262,11 @@ impl LayerBuilder {
             .text(0)?
             .ok_or_else(|| args.fail_arg(0, "must not be NULL"))?;
         match &acc.name {
-            None => acc.name = Some(name.to_string()),
+            None => {
+                acc.name = Some(name.to_string());
+                acc.implicit_ids = args.len() < 4;
+                acc.base = self.state.find(name);
+            }
             Some(n) if n != name => {
                 return Err(args.fail_arg(
                     0,
@@ -182,10 +287,110 @@ impl LayerBuilder {
         };
         let decoded = blob::decode_valid(bytes)
             .map_err(|e| args.fail(format!("feature {id} of layer '{name}': {e}")))?;
-        if !decoded.geometry.is_empty() {
-            acc.features.push((id, reach, decoded.geometry));
+        if decoded.geometry.is_empty() {
+            return Ok(());
         }
+        if acc.base.as_ref().is_some_and(|b| b.holds(id)) {
+            let e = GeomError::DuplicateFeatureId { id, earlier: true };
+            return Err(build_error(name, 0, 0, acc.implicit_ids, e));
+        }
+        let n = acc.features.len() + 1;
+        memory::reserve_one(&mut acc.features).map_err(|e| {
+            build_error(
+                name,
+                n,
+                n * std::mem::size_of::<(i64, f64, Geometry)>(),
+                false,
+                e,
+            )
+        })?;
+        acc.features.push((id, reach, decoded.geometry));
         Ok(())
+    }
+
+    /// Builds layer `name` from what it held plus `rows`, and stores it
+    /// only when everything succeeded: on an error or an interrupt the
+    /// layer stays as it was (absent, or with its old features, index and
+    /// answers). The old layer answers queries until the new one replaces
+    /// it.
+    fn build(
+        &self,
+        host: &HostInterrupt<'_>,
+        name: &str,
+        rows: Vec<(i64, f64, Geometry)>,
+        implicit_ids: bool,
+    ) -> rusqlite::Result<i64> {
+        let base = self.state.find(name);
+        let added = rows.len();
+        if added == 0 {
+            if base.is_none() {
+                self.state.put(name, Layer::default());
+            }
+            return Ok(0);
+        }
+        let base_len = base.as_ref().map_or(0, |b| b.features().len());
+        let fail = |bytes: usize, e: GeomError| build_error(name, added, bytes, implicit_ids, e);
+        let mut ids: Vec<i64> = memory::vec_with_capacity(added).map_err(|e| fail(added * 8, e))?;
+        ids.extend(rows.iter().map(|r| r.0));
+        let all_ids = Layer::check_ids(base.as_deref(), &ids).map_err(|e| fail(added * 16, e))?;
+        drop(ids);
+        let bytes = Layer::estimated_bytes(base_len + added, rows.iter().map(|r| &r.2));
+        memory::probe(bytes).map_err(|e| fail(bytes, e))?;
+
+        let meter = progress::Meter::start(format!("{LAYER} '{name}'"), "features", added as u64);
+        let report = |done: usize| {
+            if let Some(m) = &meter {
+                m.report(done as u64)
+            }
+        };
+        let prepared = run_parallel(host, |flag| Layer::prepare(rows, flag, &report))
+            .map_err(|e| fail(bytes, e))?;
+        drop(meter);
+        let base_features = base.as_ref().map_or(&[][..], |b| b.features());
+        let index = Layer::index(base_features, &prepared, all_ids, host)
+            .and_then(|input| detached(host, move || input.load()))
+            .and_then(|index| {
+                // A new layer keeps the prepared array as it is.
+                let features: Vec<Feature> = match base_len {
+                    0 => Vec::new(),
+                    n => memory::vec_with_capacity(n + added)?,
+                };
+                if host.requested_now() {
+                    return Err(GeomError::Interrupted);
+                }
+                Ok((index, features))
+            });
+        let (index, mut features) = match index {
+            Ok(done) => done,
+            Err(e) => {
+                memory::discard(prepared);
+                return Err(fail(bytes, e));
+            }
+        };
+
+        // Nothing below can fail, and it is quick (an interrupt arriving
+        // now is reported by SQLite after the layer was stored): the old
+        // layer is swapped for the new; its index is freed in the
+        // background.
+        drop(base);
+        let features = match self.state.take(name) {
+            None => prepared,
+            Some(old) => {
+                match Arc::try_unwrap(old) {
+                    Ok(layer) => {
+                        let (old_features, old_index) = layer.into_parts();
+                        memory::discard(old_index);
+                        features.extend(old_features);
+                    }
+                    // Still read by another statement of this connection.
+                    Err(shared) => features.extend(shared.features().iter().cloned()),
+                }
+                features.extend(prepared);
+                features
+            }
+        };
+        self.state.put(name, Layer::assemble(index, features));
+        Ok(added as i64)
     }
 }
 
@@ -195,41 +400,48 @@ impl Aggregate<Pending, i64> for LayerBuilder {
     }
 
     fn step(&self, ctx: &mut Context<'_>, acc: &mut Pending) -> rusqlite::Result<()> {
+        if acc.failed {
+            return Ok(());
+        }
         let values = (0..ctx.len()).map(|i| ctx.get_raw(i));
         let args = Args::new(LAYER, LAYER_PARAMS, values, &self.state);
-        guard(LAYER, || self.step_args(&args, acc))
+        let result = guard(LAYER, || self.step_args(&args, acc));
+        if result.is_err() {
+            // Free the rows (in the background); finalize will change
+            // nothing.
+            memory::discard(std::mem::take(&mut acc.features));
+            *acc = Pending {
+                failed: true,
+                ..Pending::default()
+            };
+        }
+        result
     }
 
-    fn finalize(&self, _ctx: &mut Context<'_>, acc: Option<Pending>) -> rusqlite::Result<i64> {
+    /// SQLite calls this when the rows are done, and also to clean up
+    /// after a statement that failed or was interrupted part way; the
+    /// layer is changed only when no row failed and the statement was not
+    /// interrupted.
+    fn finalize(&self, ctx: &mut Context<'_>, acc: Option<Pending>) -> rusqlite::Result<i64> {
         let Some(Pending {
             name: Some(name),
             features,
+            implicit_ids,
+            base,
+            failed: false,
             ..
         }) = acc
         else {
             return Ok(0);
         };
-        guard(LAYER, || {
-            let added = features.len() as i64;
-            let prepared: Vec<Feature> = features
-                .into_par_iter()
-                .map(|(id, reach, g)| Feature {
-                    id,
-                    reach,
-                    vertices: g.vertex_count(),
-                    geometry: Prepared::new(&g),
-                })
-                .collect();
-            let mut all = match self.state.take(&name) {
-                Some(old) => Arc::try_unwrap(old)
-                    .map(Layer::into_features)
-                    .unwrap_or_else(|shared| shared.features().to_vec()),
-                None => Vec::new(),
-            };
-            all.extend(prepared);
-            self.state.put(&name, Layer::new(all));
-            Ok(added)
-        })
+        drop(base);
+        let ctx: &Context<'_> = ctx;
+        let host = HostInterrupt::of_call(ctx);
+        if host.requested_now() {
+            memory::discard(features);
+            return Err(interrupted(LAYER));
+        }
+        guard(LAYER, || self.build(&host, &name, features, implicit_ids))
     }
 }
 

@@ -15,6 +15,7 @@ pub mod interrupt;
 pub mod io;
 pub mod layer;
 pub mod measure;
+pub mod progress;
 pub mod render;
 pub mod state;
 pub mod stats;

@@ -45,6 +45,11 @@ impl ConnState {
         ))
     }
 
+    /// The layer called `name`, if there is one.
+    pub fn find(&self, name: &str) -> Option<Arc<Layer>> {
+        self.lock().get(name).cloned()
+    }
+
     /// Stores `layer` as `name`, replacing any layer of that name.
     pub fn put(&self, name: &str, layer: Layer) {
         self.lock().insert(name.to_string(), Arc::new(layer));

@@ -35,7 +35,6 @@
 
 use std::borrow::Cow;
 use std::ffi::{c_int, CStr, CString};
-use std::io::IsTerminal;
 use std::marker::PhantomData;
 use std::sync::Arc;
 use std::time::Instant;
@@ -305,11 +304,7 @@ struct Progress {
 
 impl Progress {
     fn enabled() -> bool {
-        match std::env::var("AMBIT_PROGRESS").as_deref() {
-            Ok("1") => true,
-            Ok("0") => false,
-            _ => std::io::stderr().is_terminal(),
-        }
+        crate::sql::progress::enabled()
     }
 
     fn report(&mut self, rows: u64, last: bool) {

@@ -2,7 +2,7 @@
 //! (<https://sqlite.org/vtab.html>, eponymous-only modules):
 //!
 //! ```text
-//! SELECT * FROM ambit_layers;                       -> name, features, vertices, bytes
+//! SELECT * FROM ambit_layers;  -> name, features, vertices, bytes, west, south, east, north
 //! SELECT * FROM ambit_near('clinics', geom [, m]);  -> feature_id, distance_m
 //! SELECT * FROM ambit_sweep('parks', 'SELECT id, geom FROM blocks');
 //!                                                   -> id, reached, nearest_m
@@ -33,6 +33,7 @@ use rusqlite::vtab::{
 };
 use rusqlite::{ffi, Connection};
 
+use crate::proximity::layer::Extent;
 use crate::proximity::Prepared;
 use crate::sql::layer::distance_arg;
 use crate::sql::state::ConnState;
@@ -233,12 +234,14 @@ unsafe impl<S: RowSource> VTabCursor for RowsCursor<'_, S> {
     }
 }
 
-/// ambit_layers: name, features, vertices, bytes of every layer.
+/// ambit_layers: name, features, vertices, bytes, and the extent of the
+/// vertices (west, south, east, north in degrees; NULL for an empty
+/// layer) of every layer.
 pub struct Layers;
 
 impl RowSource for Layers {
     const SCHEMA: &'static CStr =
-        c"CREATE TABLE x(name TEXT, features INTEGER, vertices INTEGER, bytes INTEGER)";
+        c"CREATE TABLE x(name TEXT, features INTEGER, vertices INTEGER, bytes INTEGER, west REAL, south REAL, east REAL, north REAL)";
 
     fn plan(info: &mut IndexInfo) -> rusqlite::Result<bool> {
         info.set_estimated_cost(10.0);
@@ -254,11 +257,19 @@ impl RowSource for Layers {
             .all()
             .into_iter()
             .map(|(name, layer)| {
+                let extent = layer.extent();
+                let side = |f: fn(&Extent) -> f64| {
+                    extent.as_ref().map_or(Value::Null, |e| Value::Real(f(e)))
+                };
                 vec![
                     Value::Text(name),
                     Value::Integer(layer.features().len() as i64),
                     Value::Integer(layer.vertices() as i64),
                     Value::Integer(layer.bytes() as i64),
+                    side(|e| e.west),
+                    side(|e| e.south),
+                    side(|e| e.east),
+                    side(|e| e.north),
                 ]
             })
             .collect())
