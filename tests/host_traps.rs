@@ -290,3 +290,54 @@ fn ambit_near_takes_its_distance_from_another_table_of_the_join() {
         "{out}"
     );
 }
+
+#[test]
+fn a_layer_is_unchanged_when_another_ambit_function_of_its_statement_fails() {
+    // The trap: a malformed WKT on the third row failed in ST_GeomFromText,
+    // not in ambit_layer, and the two rows before it were still added
+    // (SQLite finalises the aggregate to clean up, with no sign of the
+    // error). The layer is now absent, and unchanged when it existed.
+    let setup = "CREATE TABLE p(id INTEGER PRIMARY KEY, wkt TEXT);
+                 INSERT INTO p(wkt) VALUES ('POINT (1 2)'), ('POINT (1 3)'), ('POINT (oops)');";
+    refused(
+        &format!(
+            "{setup}SELECT ambit_layer('parks', ST_GeomFromText(wkt), 10, id) FROM p;
+                  SELECT count(*) FROM ambit_layers;"
+        ),
+        "ST_GeomFromText: argument 1 (wkt): malformed WKT",
+    );
+    let r = shell(&format!(
+        "{setup}SELECT ambit_layer('parks', ST_Point(5, 5), 10, 100);
+         SELECT ambit_layer('parks', ST_GeomFromText(wkt), 10, id) FROM p;
+         SELECT name, features FROM ambit_layers;
+         SELECT ambit_count('parks', ST_Point(1, 2));"
+    ));
+    assert_eq!(r.status, 1);
+    assert_eq!(r.stdout.trim_end(), "1\nparks|1\n0", "{}", r.stderr);
+    // Fixed, the same statement builds the layer.
+    assert_eq!(
+        query(&format!(
+            "{setup}UPDATE p SET wkt = 'POINT (1 4)' WHERE id = 3;
+             SELECT ambit_layer('parks', ST_GeomFromText(wkt), 10, id) FROM p;
+             SELECT name, features FROM ambit_layers;"
+        )),
+        "3\nparks|3"
+    );
+}
+
+#[test]
+fn a_point_on_a_vertex_is_within_zero_metres() {
+    // Regression (2026-12-02, found by tests/properties.rs): a point exactly
+    // at the end of an edge was measured picometres away, so a reach of 0
+    // (touching) missed it. Distance 0 by definition; nothing to look up.
+    assert_eq!(
+        query(
+            "WITH t(a, b) AS (SELECT ST_GeomFromText('POLYGON ((-153.68261540801987 -17.874480439482014, -153.68269065589342 -17.874575172668493, -153.68281543575773 -17.874575246139187, -153.68261540801987 -17.874480439482014))'),
+                                     ST_GeomFromText('POINT (-153.68269065589342 -17.874575172668493)'))
+             SELECT ambit_distance(a, b), ambit_within(a, b, 0), ambit_distance(ST_GeomFromText('LINESTRING (0 0, 0.001 0.001)'), ST_Point(0.001, 0.001)) FROM t;
+             SELECT ambit_layer('corner', ST_GeomFromText('LINESTRING (0 0, 0.001 0.001)'), 0);
+             SELECT ambit_reached('corner', ST_Point(0.001, 0.001)), ambit_reached('corner', ST_Point(360.001, 0.001));"
+        ),
+        "0.0|1|0.0\n1\n1|1"
+    );
+}

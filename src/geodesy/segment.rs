@@ -309,6 +309,12 @@ impl GeodesicSegment {
         if !(self.valid && valid(p.0, p.1)) {
             return (f64::NAN, 0, false);
         }
+        // A point at one of the ends is at distance 0 exactly; the
+        // interception below would land a few picometres beside it, and a
+        // reach of 0 (touching) must see it.
+        if same_point(p, self.a) || same_point(p, self.b) {
+            return (0.0, 0, false);
+        }
         let line = match &self.line {
             None => return (distance(p.0, p.1, self.a.0, self.a.1), 0, false),
             Some(l) => l,
@@ -544,6 +550,13 @@ impl GeodesicSegment {
         d.min(self.distance_to(other.a))
             .min(self.distance_to(other.b))
     }
+}
+
+/// True when `p` and `q` name the same point: equal latitudes and
+/// longitudes equal up to whole turns, or both at the same pole (where
+/// longitude means nothing).
+pub fn same_point(p: (f64, f64), q: (f64, f64)) -> bool {
+    p.1 == q.1 && (p.0 == q.0 || p.1.abs() == 90.0 || (p.0 - q.0).rem_euclid(360.0) == 0.0)
 }
 
 /// Minimum geodesic distance from point `p` to the geodesic segment `a`–`b`.

@@ -181,6 +181,11 @@ pub struct Pending {
     /// A row failed: the statement fails, and the finalisation SQLite
     /// still calls (to clean up) must leave the layer as it was.
     failed: bool,
+    /// The connection's count of failed ambit calls at the first row: if
+    /// it has moved by the finalisation, another expression of this
+    /// statement failed (say ST_GeomFromText on a later row), and the
+    /// layer must stay as it was.
+    failures_at_start: Option<u64>,
 }
 
 /// Runs `work` on the rayon pool while this thread watches `host`; on an
@@ -403,6 +408,9 @@ impl Aggregate<Pending, i64> for LayerBuilder {
         if acc.failed {
             return Ok(());
         }
+        if acc.failures_at_start.is_none() {
+            acc.failures_at_start = Some(self.state.failures());
+        }
         let values = (0..ctx.len()).map(|i| ctx.get_raw(i));
         let args = Args::new(LAYER, LAYER_PARAMS, values, &self.state);
         let result = guard(LAYER, || self.step_args(&args, acc));
@@ -429,12 +437,24 @@ impl Aggregate<Pending, i64> for LayerBuilder {
             implicit_ids,
             base,
             failed: false,
+            failures_at_start,
             ..
         }) = acc
         else {
             return Ok(0);
         };
         drop(base);
+        if failures_at_start != Some(self.state.failures()) {
+            // Another ambit function failed since the first row: this is
+            // SQLite cleaning up after that error (or, if statements of
+            // the connection were interleaved, a failure elsewhere, which
+            // is reported rather than risked).
+            memory::discard(features);
+            return Err(crate::sql::error(
+                LAYER,
+                format!("another ambit function failed while layer '{name}' was being built, so the layer is unchanged; fix that error and run the statement again"),
+            ));
+        }
         let ctx: &Context<'_> = ctx;
         let host = HostInterrupt::of_call(ctx);
         if host.requested_now() {

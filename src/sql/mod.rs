@@ -102,7 +102,11 @@ pub fn register(conn: &Connection) -> rusqlite::Result<()> {
             conn.create_scalar_function(f.name, arity as i32, flags, move |ctx| {
                 let values = (0..ctx.len()).map(|i| ctx.get_raw(i));
                 let args = Args::new(function.name, function.params, values, &state).in_call(ctx);
-                guard(function.name, || (function.body)(&args))
+                let result = guard(function.name, || (function.body)(&args));
+                if result.is_err() {
+                    state.note_failure();
+                }
+                result
             })?;
         }
     }

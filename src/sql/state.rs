@@ -5,6 +5,7 @@
 //! that connection, which SQLite drops when the connection closes.
 
 use std::collections::BTreeMap;
+use std::sync::atomic::{AtomicU64, Ordering};
 use std::sync::{Arc, Mutex, MutexGuard};
 
 use crate::proximity::Layer;
@@ -14,9 +15,24 @@ use crate::sql::error;
 #[derive(Default)]
 pub struct ConnState {
     layers: Mutex<BTreeMap<String, Arc<Layer>>>,
+    /// How many calls of ambit's scalar functions on this connection have
+    /// failed: lets ambit_layer see that another expression of its own
+    /// statement failed (SQLite then still finalises the aggregate, with
+    /// no sign of the error).
+    failures: AtomicU64,
 }
 
 impl ConnState {
+    /// Counts one failed call of an ambit function on this connection.
+    pub fn note_failure(&self) {
+        self.failures.fetch_add(1, Ordering::Relaxed);
+    }
+
+    /// How many calls of ambit functions on this connection have failed.
+    pub fn failures(&self) -> u64 {
+        self.failures.load(Ordering::Relaxed)
+    }
+
     fn lock(&self) -> MutexGuard<'_, BTreeMap<String, Arc<Layer>>> {
         // A panic while the lock was held cannot leave the map half
         // updated (every change is one insert or remove), so a poisoned
