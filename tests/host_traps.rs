@@ -341,3 +341,22 @@ fn a_point_on_a_vertex_is_within_zero_metres() {
         "0.0|1|0.0\n1\n1|1"
     );
 }
+
+#[test]
+fn a_feature_around_a_pole_is_found_at_the_pole() {
+    // Regression (2026-12-02, found by tests/properties.rs): a polygon
+    // around the north pole, its vertices at 89.9 degrees, was missed by
+    // the layer for queries nearer the pole than its vertices (its index
+    // box stopped at the vertices), while ambit_distance said 0.
+    let ice = "ST_GeomFromText('POLYGON ((0 89.9, 90 89.9, 180 89.9, -90 89.9, 0 89.9))')";
+    assert_eq!(
+        query(&format!(
+            "SELECT ambit_layer('ice', {ice}, 0, 1);
+             SELECT ambit_distance(ST_Point(0, 90), {ice}), ambit_reached('ice', ST_Point(0, 90)),
+                    ambit_count('ice', ST_Point(37, 89.95)), ambit_nearest('ice', ST_Point(-120, 89.99));
+             SELECT ambit_layer('south', ST_GeomFromText('POLYGON ((0 -89.9, -90 -89.9, 180 -89.9, 90 -89.9, 0 -89.9))'), 0, 1);
+             SELECT ambit_reached('south', ST_Point(10, -90)), ambit_reached('south', ST_Point(10, 90));"
+        )),
+        "1\n0.0|1|1|0.0\n1\n1|0"
+    );
+}

@@ -422,7 +422,7 @@ impl Prepared {
         drop(xyz);
         stop.check()?;
         self.ball = whole_ball(&elements);
-        self.bbox = bounding_box(&elements);
+        self.bbox = bounding_box(&elements).map(|b| self.with_enclosed_poles(b));
         if elements.len() > ELEMENT_INDEX_MIN {
             // At most two boxes per element (split at the antimeridian).
             let mut entries: Vec<IndexEntry> = memory::vec_with_capacity(elements.len())?;
@@ -522,6 +522,37 @@ fn whole_ball(elements: &[(Element, Ball)]) -> Option<Ball> {
 
 /// A box holding every element: the centres' box (longitudes unwrapped
 /// around the first) grown by the largest element radius.
+impl Prepared {
+    /// `b` grown to hold the poles that polygons' exterior rings wind
+    /// around: such a ring's area holds its pole, beyond its vertices, and
+    /// a layer's index must find the feature for queries there.
+    fn with_enclosed_poles(&self, mut b: LonLatBox) -> LonLatBox {
+        for (rings, flags) in self.polygons.iter().zip(&self.north_pole_rings) {
+            let (Some(exterior), Some(&north)) = (rings.first(), flags.first()) else {
+                continue;
+            };
+            if winds_around_a_pole(exterior) {
+                if north {
+                    b.lat_hi = 90.0;
+                } else {
+                    b.lat_lo = -90.0;
+                }
+                let centre = (b.lon_lo + b.lon_hi) / 2.0;
+                b.lon_lo = b.lon_lo.min(centre - 180.0);
+                b.lon_hi = b.lon_hi.max(centre + 180.0);
+            }
+        }
+        b
+    }
+}
+
+/// True when a closed ring's longitudes, followed edge by edge, turn
+/// through a whole circle: the ring goes around a pole.
+fn winds_around_a_pole(ring: &[LonLat]) -> bool {
+    let turn: f64 = ring.windows(2).map(|w| wrap_delta(w[0].0, w[1].0)).sum();
+    turn.abs() > 180.0
+}
+
 fn bounding_box(elements: &[(Element, Ball)]) -> Option<LonLatBox> {
     let first = elements.first()?.1.centre;
     let mut b = LonLatBox {

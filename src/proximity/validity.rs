@@ -918,7 +918,10 @@ fn loops_of(rings: &[Ring], touches: &Touches) -> Vec<Loop> {
 }
 
 /// A point of the loop's boundary that is on no other loop: a vertex that
-/// is not a touching point (or the middle of its first edge).
+/// is not a touching point; when every vertex touches another loop (a ring
+/// given twice, say), a point just inside the loop beside the middle of its
+/// longest edge, so that a loop lying on another's boundary is still seen
+/// inside or outside it.
 fn probe(l: &Loop, touches: &Touches) -> LonLat {
     let is_touch = |p: &LonLat| {
         touches
@@ -930,10 +933,51 @@ fn probe(l: &Loop, touches: &Touches) -> LonLat {
         .iter()
         .copied()
         .find(|p| !is_touch(p))
-        .unwrap_or_else(|| {
-            let (a, b) = (l.points[0], l.points[1]);
-            (a.0 + wrap_delta(a.0, b.0) / 2.0, (a.1 + b.1) / 2.0)
+        .unwrap_or_else(|| inside_beside_an_edge(l))
+}
+
+/// A point a ten-thousandth of an edge's length inside the loop from the
+/// middle of its longest edge, in a local equirectangular picture (the
+/// side from the loop's orientation there; the midpoint itself for a loop
+/// of no area); for a loop around a pole, a point between it and the pole.
+fn inside_beside_an_edge(l: &Loop) -> LonLat {
+    // Unwrapped longitudes, scaled by the cosine of the mean latitude.
+    let mean_lat = l.points.iter().map(|p| p.1).sum::<f64>() / l.points.len() as f64;
+    let c = mean_lat.to_radians().cos().max(1e-6);
+    let mut x = l.points[0].0;
+    let mut xs = Vec::with_capacity(l.points.len());
+    xs.push(x);
+    for w in l.points.windows(2) {
+        x += wrap_delta(w[0].0, w[1].0);
+        xs.push(x);
+    }
+    if (x - l.points[0].0).abs() > 180.0 {
+        // The loop goes around a pole, which its area holds (the pole on
+        // the side of its mean latitude, as the containment test reads
+        // it): a point between the loop and that pole.
+        let sign = if mean_lat >= 0.0 { 1.0 } else { -1.0 };
+        let nearest = l.points.iter().map(|p| p.1 * sign).fold(f64::MIN, f64::max);
+        return (l.points[0].0, sign * (nearest + 90.0) / 2.0);
+    }
+    let signed_area: f64 = (0..l.points.len() - 1)
+        .map(|i| (xs[i] * l.points[i + 1].1 - xs[i + 1] * l.points[i].1) * c)
+        .sum();
+    let longest = (0..l.points.len() - 1)
+        .max_by(|&i, &j| {
+            let len = |k: usize| ((xs[k + 1] - xs[k]) * c).hypot(l.points[k + 1].1 - l.points[k].1);
+            len(i).total_cmp(&len(j))
         })
+        .unwrap_or(0);
+    let (x0, y0) = (xs[longest], l.points[longest].1);
+    let (x1, y1) = (xs[longest + 1], l.points[longest + 1].1);
+    let (dx, dy) = ((x1 - x0) * c, y1 - y0);
+    let mid = ((x0 + x1) / 2.0, (y0 + y1) / 2.0);
+    if signed_area == 0.0 || dx.hypot(dy) == 0.0 {
+        return mid;
+    }
+    // The interior is on the left of a counter-clockwise loop.
+    let side = signed_area.signum() * 1e-4;
+    (mid.0 - dy * side / c, mid.1 + dx * side)
 }
 
 /// A lon/lat box of a loop's vertices (longitudes unwrapped along it),

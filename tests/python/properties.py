@@ -52,18 +52,13 @@ KNOWN_FAILING = {
     # statement and sqlite3_interrupt are seen and leave the layer unchanged
     # (property layer_unchanged_after_failure, tests/host_layer_atomic.rs).
     "layer_unchanged_after_sqlite_error": "open: needs a layer builder that runs its query itself",
-    # A layer feature around a pole (its vertices all below the pole) is
-    # missed for queries nearer the pole than its vertices: ambit_reached,
-    # ambit_count, ambit_near and ambit_nearest disagree with
-    # ambit_distance there (the index's box stops at the vertices).
-    "reached_matches_brute_force_at_poles": "fixed by pole handling in layers",
-    "count_matches_brute_force_at_poles": "fixed by pole handling in layers",
-    "near_matches_brute_force_at_poles": "fixed by pole handling in layers",
-    "nearest_is_least_distance_at_poles": "fixed by pole handling in layers",
-    # The same hole twice, or the same part twice: rings that share every
-    # edge are taken as touching, not overlapping.
-    "refuses_overlapping_holes": "fixed by polygon validation",
-    "refuses_overlapping_parts": "fixed by polygon validation",
+    # The same hole twice, or the same part twice: a ring whose every
+    # vertex is a touching point is now probed from inside (most cases are
+    # refused), but where the crossing pass does not record every shared
+    # vertex as a touch, the vertex probe lies on the other ring and the
+    # copy passes (about 5 in 100 of the generated cases).
+    "refuses_overlapping_holes": "open: compare shared edges of rings directly",
+    "refuses_overlapping_parts": "open: compare shared edges of rings directly",
 }
 
 SEED = 20261202

@@ -52,9 +52,11 @@ def main():
     check(uninterrupted > 1.0, f"the call must be long enough to interrupt: {uninterrupted:.2f} s")
 
     latencies = []
-    # 0.3 s falls in decoding, validating and preparing the polygon (before
-    # the share computation starts); the later ones in the computation.
-    for delay in (0.3, 1.2, 0.6 * uninterrupted):
+    # The first delay falls in decoding, validating and preparing the
+    # polygon (before the share computation starts); the later ones in the
+    # computation. Fractions of the measured call, so that a fast machine
+    # (about 1 s) and a loaded one (several seconds) both interrupt it.
+    for delay in (min(0.3, 0.2 * uninterrupted), 0.45 * uninterrupted, 0.7 * uninterrupted):
         fired = {}
 
         def fire():
@@ -81,7 +83,8 @@ def main():
         fired["at"] = time.perf_counter()
         conn.interrupt()
 
-    timer = threading.Timer(1.2, fire_sweep)
+    sweep_delay = 0.6 * uninterrupted
+    timer = threading.Timer(sweep_delay, fire_sweep)
     timer.start()
     try:
         conn.execute("SELECT share FROM ambit_sweep('parks', 'SELECT 1, geom FROM g')").fetchall()
@@ -91,7 +94,7 @@ def main():
         latencies.append(latency)
         check("interrupted" in str(e), f"sweep message: {e}")
     timer.join()
-    print(f"sweep interrupted after 1.20 s: returned {1000 * latency:.0f} ms after the interrupt")
+    print(f"sweep interrupted after {sweep_delay:.2f} s: returned {1000 * latency:.0f} ms after the interrupt")
     check(latency < 1.0, f"sweep latency {latency:.3f} s")
     # The connection works afterwards.
     again = conn.execute("SELECT ambit_share('parks', geom) FROM g").fetchone()[0]
