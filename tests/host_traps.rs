@@ -360,3 +360,30 @@ fn a_feature_around_a_pole_is_found_at_the_pole() {
         "1\n0.0|1|1|0.0\n1\n1|0"
     );
 }
+
+#[test]
+fn a_polygon_or_hole_given_twice_is_refused_as_overlapping() {
+    // Regression (2026-12-02, found by tests/properties.rs): the same part
+    // twice measured double its area, the same hole twice was accepted;
+    // every vertex of the copy lies on the original, which hid them from
+    // the containment probes. Neighbours sharing an edge (insides on
+    // opposite sides) stay accepted.
+    refused(
+        "SELECT ambit_area(ST_GeomFromText('MULTIPOLYGON (((0 0, 1 0, 1 1, 0 1, 0 0)), ((0 0, 1 0, 1 1, 0 1, 0 0)))'));",
+        "invalid multipolygon: polygon 2 lies inside polygon 1",
+    );
+    refused(
+        "SELECT ambit_area(ST_GeomFromText('POLYGON ((0 0, 4 0, 4 4, 0 4, 0 0), (1 1, 1 2, 2 2, 2 1, 1 1), (1 1, 1 2, 2 2, 2 1, 1 1))'));",
+        "invalid polygon: polygon 1, ring 3 lies inside hole ring 2",
+    );
+    // Two unit squares side by side: the area is the sum (each checked on
+    // its own in the same query).
+    assert_eq!(
+        query(
+            "SELECT ambit_area(ST_GeomFromText('MULTIPOLYGON (((0 0, 1 0, 1 1, 0 1, 0 0)), ((1 0, 2 0, 2 1, 1 1, 1 0)))'))
+                    = ambit_area(ST_GeomFromText('POLYGON ((0 0, 1 0, 1 1, 0 1, 0 0))'))
+                    + ambit_area(ST_GeomFromText('POLYGON ((1 0, 2 0, 2 1, 1 1, 1 0))'));"
+        ),
+        "1"
+    );
+}

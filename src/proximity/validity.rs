@@ -163,9 +163,99 @@ pub fn check(g: &Geometry) -> Result<(), GeomError> {
     if touches.points.is_empty() && rings.len() == 1 {
         return Ok(());
     }
+    shared_edges(&rings)?;
     let loops = loops_of(&rings, &touches);
     nesting(&rings, &loops, &touches)?;
     Ok(())
+}
+
+/// Refuses two holes of one polygon, or the exteriors of two polygons, that
+/// share an edge with their insides on the same side of it: they overlap
+/// along it (a ring given twice, say), which the probes of [`nesting`]
+/// may not see because every vertex of one lies on the other. Insides on
+/// opposite sides (neighbours along an edge) are left to the other checks.
+/// Rings around a pole or of no area have no orientation here and are
+/// skipped.
+fn shared_edges(rings: &[Ring]) -> Result<(), GeomError> {
+    if rings.len() < 2 {
+        return Ok(());
+    }
+    let key = |p: LonLat| -> (u64, u64) {
+        let lon = if p.1.abs() == 90.0 {
+            0.0
+        } else {
+            (p.0 + 180.0).rem_euclid(360.0) - 180.0
+        };
+        (lon.to_bits(), p.1.to_bits())
+    };
+    // An edge (its two ends' bits, smaller first) -> the first ring seen
+    // with it, and whether that ring's inside is on the edge's left.
+    type EdgeKey = ((u64, u64), (u64, u64));
+    let mut seen: std::collections::HashMap<EdgeKey, (usize, bool)> =
+        std::collections::HashMap::new();
+    for (ri, r) in rings.iter().enumerate() {
+        let Some(counter_clockwise) = orientation(r) else {
+            continue;
+        };
+        for w in r.v.windows(2) {
+            let (a, b) = (key(w[0].p), key(w[1].p));
+            if a == b {
+                continue;
+            }
+            let forward = a < b;
+            let edge = if forward { (a, b) } else { (b, a) };
+            // The inside is on the left of a counter-clockwise ring; seen
+            // along the edge's stored direction, on the left when both or
+            // neither hold.
+            let inside_left = forward == counter_clockwise;
+            match seen.entry(edge) {
+                std::collections::hash_map::Entry::Vacant(e) => {
+                    e.insert((ri, inside_left));
+                }
+                std::collections::hash_map::Entry::Occupied(e) => {
+                    let (rj, other_left) = *e.get();
+                    let (x, y) = (&rings[rj], r);
+                    if other_left != inside_left || rj == ri {
+                        continue;
+                    }
+                    let error = |problem| GeomError::InvalidPolygon {
+                        polygon: y.polygon,
+                        ring: y.ring,
+                        vertex: w[0].number,
+                        problem,
+                    };
+                    if x.polygon == y.polygon && x.ring > 1 && y.ring > 1 {
+                        return Err(error(PolygonProblem::HoleInHole { other_ring: x.ring }));
+                    }
+                    if x.polygon != y.polygon && x.ring == 1 && y.ring == 1 {
+                        return Err(error(PolygonProblem::PartInside {
+                            other_polygon: x.polygon,
+                        }));
+                    }
+                }
+            }
+        }
+    }
+    Ok(())
+}
+
+/// Whether a ring runs counter-clockwise in a local equirectangular
+/// picture (longitudes unwrapped along it, scaled by the cosine of its mean
+/// latitude); `None` for a ring around a pole or of no area.
+fn orientation(r: &Ring) -> Option<bool> {
+    let mean_lat = r.v.iter().map(|v| v.p.1).sum::<f64>() / r.v.len() as f64;
+    let c = mean_lat.to_radians().cos();
+    let mut x = r.v[0].p.0;
+    let mut twice_area = 0.0;
+    for w in r.v.windows(2) {
+        let x1 = x + wrap_delta(w[0].p.0, w[1].p.0);
+        twice_area += (x * w[1].p.1 - x1 * w[0].p.1) * c;
+        x = x1;
+    }
+    if (x - r.v[0].p.0).abs() > 180.0 || twice_area == 0.0 || !twice_area.is_finite() {
+        return None;
+    }
+    Some(twice_area > 0.0)
 }
 
 /// The area of `g` in square metres under the even-odd rule, for a

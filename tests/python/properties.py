@@ -52,13 +52,6 @@ KNOWN_FAILING = {
     # statement and sqlite3_interrupt are seen and leave the layer unchanged
     # (property layer_unchanged_after_failure, tests/host_layer_atomic.rs).
     "layer_unchanged_after_sqlite_error": "open: needs a layer builder that runs its query itself",
-    # The same hole twice, or the same part twice: a ring whose every
-    # vertex is a touching point is now probed from inside (most cases are
-    # refused), but where the crossing pass does not record every shared
-    # vertex as a touch, the vertex probe lies on the other ring and the
-    # copy passes (about 5 in 100 of the generated cases).
-    "refuses_overlapping_holes": "open: compare shared edges of rings directly",
-    "refuses_overlapping_parts": "open: compare shared edges of rings directly",
 }
 
 SEED = 20261202
