@@ -69,3 +69,21 @@ fn ctrl_c_stops_a_sweep_between_rows_not_chunks() {
     assert!(stderr.contains("interrupt"), "{stderr}");
     assert!(took < Duration::from_secs(1), "took {took:?} to stop");
 }
+
+#[test]
+fn ctrl_c_stops_a_distance_from_near_the_antipode_of_a_big_polygon() {
+    // A 200,000-vertex ring (invented, about 340 km across) and a point
+    // near its antipode: the bounds prune little there and nearly every
+    // edge gets Karney's inverse, about 20 s of work on this machine.
+    // Before 2026-12-02 ambit_distance never looked at the interrupt.
+    let sql = "CREATE TABLE ring AS WITH RECURSIVE i(n) AS (SELECT 0 UNION ALL SELECT n + 1 FROM i WHERE n < 199999)
+  SELECT n, -100 + 2 * cos(n * 2 * 3.141592653589793 / 200000) * (1 + 0.001 * (n % 2)) AS x,
+         40 + 1.5 * sin(n * 2 * 3.141592653589793 / 200000) AS y FROM i;
+CREATE TABLE big AS SELECT ST_GeomFromText('POLYGON ((' || group_concat(x || ' ' || y, ', ') || ', '
+  || (SELECT x || ' ' || y FROM ring WHERE n = 0) || '))') AS geom FROM (SELECT x, y FROM ring ORDER BY n);
+SELECT ambit_distance(geom, ST_Point(80, -40)) FROM big;";
+    let (took, stderr) = interrupt_after(sql, Duration::from_millis(3000));
+    eprintln!("ambit_distance stopped {took:?} after SIGINT");
+    assert!(stderr.contains("interrupt"), "{stderr}");
+    assert!(took < Duration::from_secs(1), "took {took:?} to stop");
+}

@@ -26,7 +26,9 @@
 
 use std::ops::ControlFlow;
 
+use crate::error::GeomError;
 use crate::geodesy::{inverse, local, segment};
+use crate::interrupt::{Interrupt, Never};
 use crate::proximity::boxes::LonLatBox;
 use crate::proximity::contain::point_in_prepared;
 use crate::proximity::prepared::{arc_upper, distance_upper, Ball, Element, LonLat, Prepared};
@@ -196,22 +198,33 @@ fn quick_upper(a: &Prepared, b: &Prepared) -> f64 {
 /// distance when it is at most `cap`; with `first_hit`, may instead return
 /// any distance found that is at most `cap`. A result above `cap` means
 /// the minimum is above `cap` (the value itself is then only a bound).
-fn search(a: &Prepared, b: &Prepared, cap: f64, first_hit: bool, work: &mut Work) -> f64 {
+///
+/// `stop` is asked every [`EXACT_PER_CHECK`] exact element distances (the
+/// costly part: near the antipode of a large geometry the bounds prune
+/// little and every edge may need Karney's inverse).
+fn search(
+    a: &Prepared,
+    b: &Prepared,
+    cap: f64,
+    first_hit: bool,
+    work: &mut Work,
+    stop: &dyn Interrupt,
+) -> Result<f64, GeomError> {
     let (Some(ball_a), Some(ball_b)) = (a.ball, b.ball) else {
-        return f64::INFINITY;
+        return Ok(f64::INFINITY);
     };
     let gap = ball_a.gap(&ball_b);
     if gap > cap {
-        return gap;
+        return Ok(gap);
     }
     if gap <= 0.0 && (probes_inside(a, b, work) || probes_inside(b, a, work)) {
-        return 0.0;
+        return Ok(0.0);
     }
     // Any pair of vertices bounds the minimum from above, which bounds the
     // pairs worth looking at.
     let mut best = quick_upper(a, b);
     if first_hit && best <= cap {
-        return best;
+        return Ok(best);
     }
     let reach = cap.min(best);
     let mut pairs: Vec<(f64, usize, usize)> = Vec::new();
@@ -235,10 +248,11 @@ fn search(a: &Prepared, b: &Prepared, cap: f64, first_hit: bool, work: &mut Work
         ControlFlow::Continue(())
     });
     if let Some(found) = early {
-        return found;
+        return Ok(found);
     }
     pairs.sort_unstable_by(|x, y| x.0.total_cmp(&y.0).then(x.1.cmp(&y.1)).then(x.2.cmp(&y.2)));
     let mut best_exact = f64::INFINITY;
+    let mut exact_since_check = 0u32;
     for (lower, i, j) in pairs {
         // No later pair can beat the best exact distance found, nor the
         // vertex upper bound (the minimum's pair has a lower bound at most
@@ -251,34 +265,54 @@ fn search(a: &Prepared, b: &Prepared, cap: f64, first_hit: bool, work: &mut Work
         let (ea, eb) = (&a.elements[i].0, &b.elements[j].0);
         let (flat_lo, flat_up) = flat_bounds(ea, eb);
         if first_hit && flat_up <= cap {
-            return flat_up;
+            return Ok(flat_up);
         }
         best = best.min(flat_up);
         if flat_lo > best_exact.min(best).min(cap) {
             continue;
         }
         work.exact += 1;
+        exact_since_check += 1;
+        if exact_since_check == EXACT_PER_CHECK {
+            exact_since_check = 0;
+            stop.check()?;
+        }
         let d = exact(&a.elements[i].0, &b.elements[j].0);
         best_exact = best_exact.min(d);
         if first_hit && best_exact <= cap {
-            return best_exact;
+            return Ok(best_exact);
         }
         if best_exact == 0.0 {
             break;
         }
     }
     // No pair had a lower bound within `cap`: the minimum is above it.
-    best_exact
+    Ok(best_exact)
 }
+
+/// How many exact element distances pass between two questions to the
+/// interrupt (each takes a few microseconds, up to about 100 near the
+/// antipode).
+const EXACT_PER_CHECK: u32 = 64;
 
 /// The geodesic minimum distance between two geometries in metres; `None`
 /// when either is empty. 0 when they touch, cross or one contains the
 /// other.
 pub fn distance(a: &Prepared, b: &Prepared) -> Option<f64> {
+    distance_interruptible(a, b, &Never).unwrap_or(None)
+}
+
+/// [`distance`], asking `stop` now and then whether to give up
+/// (`Err(GeomError::Interrupted)`).
+pub fn distance_interruptible(
+    a: &Prepared,
+    b: &Prepared,
+    stop: &dyn Interrupt,
+) -> Result<Option<f64>, GeomError> {
     if a.is_empty() || b.is_empty() {
-        return None;
+        return Ok(None);
     }
-    Some(search(a, b, f64::INFINITY, false, &mut Work::default()))
+    search(a, b, f64::INFINITY, false, &mut Work::default(), stop).map(Some)
 }
 
 /// The exact geodesic minimum distance between `a` and `b` when it is at
@@ -289,7 +323,7 @@ pub fn distance_within(a: &Prepared, b: &Prepared, cap: f64) -> Option<f64> {
     if a.is_empty() || b.is_empty() {
         return None;
     }
-    let d = search(a, b, cap, false, &mut Work::default());
+    let d = search(a, b, cap, false, &mut Work::default(), &Never).unwrap_or(f64::INFINITY);
     (d <= cap).then_some(d)
 }
 
@@ -299,12 +333,26 @@ pub fn within(a: &Prepared, b: &Prepared, metres: f64) -> bool {
     within_counted(a, b, metres, &mut Work::default())
 }
 
+/// [`within`], asking `stop` now and then whether to give up
+/// (`Err(GeomError::Interrupted)`).
+pub fn within_interruptible(
+    a: &Prepared,
+    b: &Prepared,
+    metres: f64,
+    stop: &dyn Interrupt,
+) -> Result<bool, GeomError> {
+    if a.is_empty() || b.is_empty() {
+        return Ok(false);
+    }
+    Ok(search(a, b, metres, true, &mut Work::default(), stop)? <= metres)
+}
+
 /// [`within`], adding the work it did to `work`.
 pub fn within_counted(a: &Prepared, b: &Prepared, metres: f64, work: &mut Work) -> bool {
     if a.is_empty() || b.is_empty() {
         return false;
     }
-    search(a, b, metres, true, work) <= metres
+    search(a, b, metres, true, work, &Never).is_ok_and(|d| d <= metres)
 }
 
 #[cfg(test)]

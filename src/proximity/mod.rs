@@ -11,6 +11,9 @@ pub mod prepared;
 pub mod share;
 pub mod validity;
 
-pub use distance::{distance, distance_within, within, within_counted, Work};
+pub use distance::{
+    distance, distance_interruptible, distance_within, within, within_counted,
+    within_interruptible, Work,
+};
 pub use layer::{Feature, Layer};
 pub use prepared::Prepared;

@@ -4,6 +4,9 @@
 
 use rusqlite::types::Value;
 
+use crate::error::GeomError;
+use crate::interrupt::Interrupt;
+
 use crate::geodesy::area;
 use crate::proximity::{self, Prepared};
 use crate::sql::{Args, SqlFunction, SqlResult};
@@ -39,20 +42,33 @@ pub const FUNCTIONS: &[SqlFunction] = &[
     },
 ];
 
-/// Both geometries prepared, or `None` if either is NULL.
-fn pair(args: &Args) -> rusqlite::Result<Option<(Prepared, Prepared)>> {
+/// A core error as this call's SQL error: an interrupt with SQLite's code,
+/// anything else about argument `i`.
+fn core_error(args: &Args, i: usize, e: GeomError) -> rusqlite::Error {
+    match e {
+        GeomError::Interrupted => crate::sql::interrupted(args.name()),
+        e => args.fail_arg(i, e),
+    }
+}
+
+/// Both geometries prepared (interruptibly, with their memory reserved
+/// fallibly), or `None` if either is NULL.
+fn pair(args: &Args, stop: &dyn Interrupt) -> rusqlite::Result<Option<(Prepared, Prepared)>> {
     let (Some(a), Some(b)) = (args.geometry(0)?, args.geometry(1)?) else {
         return Ok(None);
     };
     Ok(Some((
-        Prepared::new(&a.geometry),
-        Prepared::new(&b.geometry),
+        Prepared::build(&a.geometry, stop).map_err(|e| core_error(args, 0, e))?,
+        Prepared::build(&b.geometry, stop).map_err(|e| core_error(args, 1, e))?,
     )))
 }
 
 fn distance(args: &Args) -> SqlResult {
-    Ok(match pair(args)? {
-        Some((a, b)) => proximity::distance(&a, &b).map_or(Value::Null, Value::Real),
+    let stop = args.interrupt();
+    Ok(match pair(args, &stop)? {
+        Some((a, b)) => proximity::distance_interruptible(&a, &b, &stop)
+            .map_err(|e| core_error(args, 1, e))?
+            .map_or(Value::Null, Value::Real),
         None => Value::Null,
     })
 }
@@ -62,8 +78,13 @@ fn within(args: &Args) -> SqlResult {
     let Some(metres) = metres else {
         return Ok(Value::Null);
     };
-    Ok(match pair(args)? {
-        Some((a, b)) => Value::Integer(proximity::within(&a, &b, metres).into()),
+    let stop = args.interrupt();
+    Ok(match pair(args, &stop)? {
+        Some((a, b)) => Value::Integer(
+            proximity::within_interruptible(&a, &b, metres, &stop)
+                .map_err(|e| core_error(args, 1, e))?
+                .into(),
+        ),
         None => Value::Null,
     })
 }
