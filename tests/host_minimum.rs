@@ -6,7 +6,12 @@ mod common;
 use std::process::Command;
 
 fn run_old_host(version_number: &str) -> String {
-    let dir = std::env::temp_dir().join(format!("ambit-old-host-{}", std::process::id()));
+    // One folder per call (the two tests run in parallel), removed at the
+    // end: tests leave nothing in the temporary folder.
+    let dir = std::env::temp_dir().join(format!(
+        "ambit-old-host-{}-{version_number}",
+        std::process::id()
+    ));
     std::fs::create_dir_all(&dir).unwrap();
     let exe = dir.join(format!("old_host_{version_number}"));
     let source = concat!(env!("CARGO_MANIFEST_DIR"), "/tests/hosts/old_host.c");
@@ -26,6 +31,7 @@ fn run_old_host(version_number: &str) -> String {
         .arg(version_number)
         .output()
         .unwrap();
+    std::fs::remove_dir_all(&dir).ok();
     assert!(
         out.status.success(),
         "{}",
