@@ -87,3 +87,22 @@ SELECT ambit_distance(geom, ST_Point(80, -40)) FROM big;";
     assert!(stderr.contains("interrupt"), "{stderr}");
     assert!(took < Duration::from_secs(1), "took {took:?} to stop");
 }
+
+#[test]
+fn ctrl_c_stops_a_sweep_inside_a_costly_row() {
+    // Each row here is a point near the antipode of a 200,000-vertex ring:
+    // its nearest distance alone takes seconds, so checking between rows
+    // is not enough; the nearest search reads the stop flag too.
+    let sql = "CREATE TABLE ring AS WITH RECURSIVE i(n) AS (SELECT 0 UNION ALL SELECT n + 1 FROM i WHERE n < 199999)
+  SELECT n, -100 + 2 * cos(n * 2 * 3.141592653589793 / 200000) * (1 + 0.001 * (n % 2)) AS x,
+         40 + 1.5 * sin(n * 2 * 3.141592653589793 / 200000) AS y FROM i;
+CREATE TABLE big AS SELECT ST_GeomFromText('POLYGON ((' || group_concat(x || ' ' || y, ', ') || ', '
+  || (SELECT x || ' ' || y FROM ring WHERE n = 0) || '))') AS geom FROM (SELECT x, y FROM ring ORDER BY n);
+SELECT ambit_layer('forest', geom, '0.5 mi', 1) FROM big;
+SELECT count(*), sum(nearest_m) FROM ambit_sweep('forest',
+  'SELECT n, ST_Point(80 + n * 0.01, -40) FROM (SELECT 1 AS n UNION ALL SELECT 2 UNION ALL SELECT 3 UNION ALL SELECT 4)');";
+    let (took, stderr) = interrupt_after(sql, Duration::from_millis(3000));
+    eprintln!("sweep of costly rows stopped {took:?} after SIGINT");
+    assert!(stderr.contains("interrupt"), "{stderr}");
+    assert!(took < Duration::from_secs(1), "took {took:?} to stop");
+}

@@ -327,6 +327,21 @@ pub fn distance_within(a: &Prepared, b: &Prepared, cap: f64) -> Option<f64> {
     (d <= cap).then_some(d)
 }
 
+/// [`distance_within`], asking `stop` now and then whether to give up
+/// (`Err(GeomError::Interrupted)`).
+pub fn distance_within_interruptible(
+    a: &Prepared,
+    b: &Prepared,
+    cap: f64,
+    stop: &dyn Interrupt,
+) -> Result<Option<f64>, GeomError> {
+    if a.is_empty() || b.is_empty() {
+        return Ok(None);
+    }
+    let d = search(a, b, cap, false, &mut Work::default(), stop)?;
+    Ok((d <= cap).then_some(d))
+}
+
 /// True when the geodesic minimum distance between `a` and `b` is at most
 /// `metres` (ties count as within); false when either is empty.
 pub fn within(a: &Prepared, b: &Prepared, metres: f64) -> bool {

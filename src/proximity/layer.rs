@@ -19,7 +19,9 @@ use crate::error::GeomError;
 use crate::geometry::Geometry;
 use crate::interrupt::{Interrupt, Never};
 use crate::memory;
-use crate::proximity::distance::{distance_within, within};
+use crate::proximity::distance::{
+    distance_within, distance_within_interruptible, within, within_interruptible,
+};
 use crate::proximity::prepared::{tree_bytes, wrap_delta, Prepared};
 use crate::proximity::share::{coverage_share, ShareError};
 
@@ -543,7 +545,7 @@ impl Layer {
                 stop.check()?;
             }
             let f = &self.features[i];
-            if within(g, &f.geometry, f.reach) {
+            if within_interruptible(g, &f.geometry, f.reach, stop)? {
                 return Ok(true);
             }
         }
@@ -574,7 +576,12 @@ impl Layer {
                 stop.check()?;
             }
             let f = &self.features[i];
-            n += usize::from(within(g, &f.geometry, metres.unwrap_or(f.reach)));
+            n += usize::from(within_interruptible(
+                g,
+                &f.geometry,
+                metres.unwrap_or(f.reach),
+                stop,
+            )?);
         }
         Ok(n)
     }
@@ -679,7 +686,9 @@ impl Layer {
             if lower > cap {
                 continue;
             }
-            if let Some(d) = distance_within(g, &self.features[i].geometry, cap) {
+            if let Some(d) =
+                distance_within_interruptible(g, &self.features[i].geometry, cap, stop)?
+            {
                 let better = match best {
                     None => true,
                     Some((b, j)) => d < b || (d == b && i < j),
@@ -698,18 +707,38 @@ impl Layer {
     /// first round (a superset of those `reached` would look at) are
     /// tested.
     pub fn reached_and_nearest(&self, g: &Prepared) -> (bool, Option<f64>) {
+        self.reached_and_nearest_until(g, &Never)
+            .unwrap_or((false, None))
+    }
+
+    /// [`Layer::reached_and_nearest`], reading `stop` as
+    /// [`Layer::nearest_until`] does and between the reach tests:
+    /// `Err(GeomError::Interrupted)` when asked to stop.
+    pub fn reached_and_nearest_until(
+        &self,
+        g: &Prepared,
+        stop: &dyn Interrupt,
+    ) -> Result<(bool, Option<f64>), GeomError> {
         let mut first = None;
-        let nearest = self
-            .nearest_search(g, None, &mut first, &Never)
-            .unwrap_or(None);
+        let nearest = self.nearest_search(g, None, &mut first, stop)?;
         let reached = match nearest {
             Some((d, i)) if d <= self.features[i].reach => true,
-            _ => first.unwrap_or_default().into_iter().any(|i| {
-                let f = &self.features[i];
-                within(g, &f.geometry, f.reach)
-            }),
+            _ => {
+                let mut any = false;
+                for (k, i) in first.unwrap_or_default().into_iter().enumerate() {
+                    if k % CHECK_CANDIDATES == CHECK_CANDIDATES - 1 {
+                        stop.check()?;
+                    }
+                    let f = &self.features[i];
+                    if within_interruptible(g, &f.geometry, f.reach, stop)? {
+                        any = true;
+                        break;
+                    }
+                }
+                any
+            }
         };
-        (reached, nearest.map(|(d, _)| d))
+        Ok((reached, nearest.map(|(d, _)| d)))
     }
 }
 

@@ -12,8 +12,8 @@ pub mod share;
 pub mod validity;
 
 pub use distance::{
-    distance, distance_interruptible, distance_within, within, within_counted,
-    within_interruptible, Work,
+    distance, distance_interruptible, distance_within, distance_within_interruptible, within,
+    within_counted, within_interruptible, Work,
 };
 pub use layer::{Feature, Layer};
 pub use prepared::Prepared;

@@ -227,21 +227,29 @@ fn evaluate(
     id: Value,
     geom: Value,
     wanted: Wanted,
-    stop: &dyn crate::interrupt::Interrupt,
+    stop: &dyn Interrupt,
 ) -> Result<Row, String> {
     let (reached, nearest, share) = match &geom {
         Value::Null => (Value::Null, Value::Null, Value::Null),
         Value::Blob(bytes) => {
             let fail = |e: &dyn std::fmt::Display| format!("row with id {}: {e}", show(&id));
             let decoded = blob::decode_valid(bytes).map_err(|e| fail(&e))?;
-            let g = Prepared::new(&decoded.geometry);
+            let g = Prepared::build(&decoded.geometry, stop).map_err(|e| fail(&e))?;
             let (reached, nearest) = match (wanted.has(COL_REACHED), wanted.has(COL_NEAREST)) {
                 (true, true) => {
-                    let (r, n) = layer.reached_and_nearest(&g);
+                    let (r, n) = layer
+                        .reached_and_nearest_until(&g, stop)
+                        .map_err(|e| fail(&e))?;
                     (Some(r), n)
                 }
-                (true, false) => (Some(layer.reached(&g)), None),
-                (false, true) => (None, layer.nearest(&g, None)),
+                (true, false) => (
+                    Some(layer.reached_until(&g, stop).map_err(|e| fail(&e))?),
+                    None,
+                ),
+                (false, true) => (
+                    None,
+                    layer.nearest_until(&g, None, stop).map_err(|e| fail(&e))?,
+                ),
                 (false, false) => (None, None),
             };
             // Points and lines have no area: their share is NULL here
