@@ -146,8 +146,15 @@ fn share(args: &Args) -> SqlResult {
         .geometry
         .require_polygonal(SHARE_NEEDS_AREAS)
         .map_err(|e| args.fail_arg(1, e.to_string()))?;
-    let g = Prepared::new(&decoded.geometry);
-    match layer.share(&g, &args.interrupt()) {
+    let stop = args.interrupt();
+    let g = match Prepared::build(&decoded.geometry, &stop) {
+        Ok(g) => g,
+        Err(crate::error::GeomError::Interrupted) => {
+            return Err(crate::sql::interrupted(args.name()))
+        }
+        Err(e) => return Err(args.fail_arg(1, e)),
+    };
+    match layer.share(&g, &stop) {
         Ok(v) => Ok(v.map_or(Value::Null, Value::Real)),
         Err(crate::proximity::share::ShareError::Geom(crate::error::GeomError::Interrupted)) => {
             Err(crate::sql::interrupted(args.name()))

@@ -309,7 +309,11 @@ impl RowSource for Near {
             let layer = args.state().layer(NEAR, name)?;
             let metres = distance_arg(&args, 2)?;
             let near = match args.geometry(1)? {
-                Some(d) => layer.near(&Prepared::new(&d.geometry), metres),
+                Some(d) => {
+                    let g = Prepared::build(&d.geometry, &crate::interrupt::Never)
+                        .map_err(|e| args.fail_arg(1, e))?;
+                    layer.near(&g, metres)
+                }
                 None => Vec::new(),
             };
             Ok(near
