@@ -40,7 +40,7 @@ def main():
     conn.execute("CREATE TEMP TABLE parks (id INTEGER, lon REAL, lat REAL)")
     with conn:
         conn.executemany("INSERT INTO parks VALUES (?, ?, ?)", [
-            (i, lon0 + rng.uniform(-0.5, 0.5), lat0 + rng.uniform(-0.4, 0.4)) for i in range(2000)
+            (i, lon0 + rng.uniform(-0.5, 0.5), lat0 + rng.uniform(-0.4, 0.4)) for i in range(3000)
         ])
     conn.execute("SELECT ambit_layer('parks', ST_Point(lon, lat), 804.672, id) FROM parks").fetchall()
     conn.execute("CREATE TEMP TABLE g AS SELECT ST_GeomFromText(?) AS geom", (wkt,))
@@ -49,7 +49,9 @@ def main():
     whole = conn.execute("SELECT ambit_share('parks', geom) FROM g").fetchone()[0]
     uninterrupted = time.perf_counter() - start
     print(f"uninterrupted: share {whole:.6f} in {uninterrupted:.2f} s")
-    check(uninterrupted > 1.0, f"the call must be long enough to interrupt: {uninterrupted:.2f} s")
+    # About 1 s on an idle 2-core machine, several when loaded; the delays
+    # below are fractions of it, so a faster machine only shortens them.
+    check(uninterrupted > 0.3, f"the call must be long enough to interrupt: {uninterrupted:.2f} s")
 
     latencies = []
     # The first delay falls in decoding, validating and preparing the
