@@ -76,3 +76,21 @@ impl XorShift {
         lo + (hi - lo) * self.unit()
     }
 }
+
+/// The lon/lat box polygon of half-side `h` degrees around (`lon`, `lat`),
+/// counter-clockwise.
+pub fn square(lon: f64, lat: f64, h: f64) -> Geometry {
+    let ring = vec![
+        lon - h,
+        lat - h,
+        lon + h,
+        lat - h,
+        lon + h,
+        lat + h,
+        lon - h,
+        lat + h,
+        lon - h,
+        lat - h,
+    ];
+    Geometry::new(Dimensions::Xy, Shape::Polygon(vec![ring]))
+}

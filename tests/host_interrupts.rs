@@ -21,6 +21,17 @@ CREATE TABLE park AS SELECT ST_GeomFromText('POLYGON ((' || group_concat(x || ' 
 SELECT ambit_layer('forest', geom, '0.5 mi') FROM park;
 ";
 
+/// A table `big` holding one 200,000-vertex ring (invented, about 340 km
+/// across, around (-100, 40)): from a point near its antipode the bounds
+/// prune little and nearly every edge needs Karney's inverse, about 20 s of
+/// work on this machine.
+const BIG_RING: &str = "CREATE TABLE ring AS WITH RECURSIVE i(n) AS (SELECT 0 UNION ALL SELECT n + 1 FROM i WHERE n < 199999)
+  SELECT n, -100 + 2 * cos(n * 2 * 3.141592653589793 / 200000) * (1 + 0.001 * (n % 2)) AS x,
+         40 + 1.5 * sin(n * 2 * 3.141592653589793 / 200000) AS y FROM i;
+CREATE TABLE big AS SELECT ST_GeomFromText('POLYGON ((' || group_concat(x || ' ' || y, ', ') || ', '
+  || (SELECT x || ' ' || y FROM ring WHERE n = 0) || '))') AS geom FROM (SELECT x, y FROM ring ORDER BY n);
+";
+
 /// Runs `sql` in the shell, sends SIGINT after `after`, and returns how
 /// long the shell took to finish after the signal, with its stderr.
 fn interrupt_after(sql: &str, after: Duration) -> (Duration, String) {
@@ -76,13 +87,8 @@ fn ctrl_c_stops_a_distance_from_near_the_antipode_of_a_big_polygon() {
     // near its antipode: the bounds prune little there and nearly every
     // edge gets Karney's inverse, about 20 s of work on this machine.
     // Before 2026-12-02 ambit_distance never looked at the interrupt.
-    let sql = "CREATE TABLE ring AS WITH RECURSIVE i(n) AS (SELECT 0 UNION ALL SELECT n + 1 FROM i WHERE n < 199999)
-  SELECT n, -100 + 2 * cos(n * 2 * 3.141592653589793 / 200000) * (1 + 0.001 * (n % 2)) AS x,
-         40 + 1.5 * sin(n * 2 * 3.141592653589793 / 200000) AS y FROM i;
-CREATE TABLE big AS SELECT ST_GeomFromText('POLYGON ((' || group_concat(x || ' ' || y, ', ') || ', '
-  || (SELECT x || ' ' || y FROM ring WHERE n = 0) || '))') AS geom FROM (SELECT x, y FROM ring ORDER BY n);
-SELECT ambit_distance(geom, ST_Point(80, -40)) FROM big;";
-    let (took, stderr) = interrupt_after(sql, Duration::from_millis(3000));
+    let sql = format!("{BIG_RING}SELECT ambit_distance(geom, ST_Point(80, -40)) FROM big;");
+    let (took, stderr) = interrupt_after(&sql, Duration::from_millis(3000));
     eprintln!("ambit_distance stopped {took:?} after SIGINT");
     assert!(stderr.contains("interrupt"), "{stderr}");
     assert!(took < Duration::from_secs(1), "took {took:?} to stop");
@@ -93,15 +99,10 @@ fn ctrl_c_stops_a_sweep_inside_a_costly_row() {
     // Each row here is a point near the antipode of a 200,000-vertex ring:
     // its nearest distance alone takes seconds, so checking between rows
     // is not enough; the nearest search reads the stop flag too.
-    let sql = "CREATE TABLE ring AS WITH RECURSIVE i(n) AS (SELECT 0 UNION ALL SELECT n + 1 FROM i WHERE n < 199999)
-  SELECT n, -100 + 2 * cos(n * 2 * 3.141592653589793 / 200000) * (1 + 0.001 * (n % 2)) AS x,
-         40 + 1.5 * sin(n * 2 * 3.141592653589793 / 200000) AS y FROM i;
-CREATE TABLE big AS SELECT ST_GeomFromText('POLYGON ((' || group_concat(x || ' ' || y, ', ') || ', '
-  || (SELECT x || ' ' || y FROM ring WHERE n = 0) || '))') AS geom FROM (SELECT x, y FROM ring ORDER BY n);
-SELECT ambit_layer('forest', geom, '0.5 mi', 1) FROM big;
+    let sql = format!("{BIG_RING}SELECT ambit_layer('forest', geom, '0.5 mi', 1) FROM big;
 SELECT count(*), sum(nearest_m) FROM ambit_sweep('forest',
-  'SELECT n, ST_Point(80 + n * 0.01, -40) FROM (SELECT 1 AS n UNION ALL SELECT 2 UNION ALL SELECT 3 UNION ALL SELECT 4)');";
-    let (took, stderr) = interrupt_after(sql, Duration::from_millis(3000));
+  'SELECT n, ST_Point(80 + n * 0.01, -40) FROM (SELECT 1 AS n UNION ALL SELECT 2 UNION ALL SELECT 3 UNION ALL SELECT 4)');");
+    let (took, stderr) = interrupt_after(&sql, Duration::from_millis(3000));
     eprintln!("sweep of costly rows stopped {took:?} after SIGINT");
     assert!(stderr.contains("interrupt"), "{stderr}");
     assert!(took < Duration::from_secs(1), "took {took:?} to stop");

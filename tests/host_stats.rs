@@ -33,6 +33,31 @@ fn statistics(with: &str, from: &str) -> [f64; 4] {
     [v[0], v[1], v[2], v[3]]
 }
 
+/// Runs the Python `script` with `input` on its standard input, asserts it
+/// succeeded and returns what it printed.
+fn run_python(script: &str, input: &str) -> String {
+    let mut child = Command::new("python3")
+        .args(["-c", script])
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .expect("python3 is needed; tests/prepare-host installs it");
+    child
+        .stdin
+        .take()
+        .expect("stdin")
+        .write_all(input.as_bytes())
+        .expect("write to python3");
+    let out = child.wait_with_output().expect("python3 output");
+    assert!(
+        out.status.success(),
+        "python3 failed: {}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    String::from_utf8_lossy(&out.stdout).into_owned()
+}
+
 /// The NIST StRD pattern of NumAcc2 to NumAcc4 in SQL: 1001 rows, `centre`
 /// then `low` and `high` alternately, 500 of each (the values are SQL
 /// literals, parsed by SQLite).
@@ -211,29 +236,8 @@ fn agrees_with_pythons_statistics_module_on_fixed_seed_data() {
                   assert len(x) == 1000\n\
                   print(*(repr(f(x)) for f in (statistics.stdev, statistics.pstdev, \
                   statistics.variance, statistics.pvariance)))\n";
-    let mut child = Command::new("python3")
-        .args(["-c", script])
-        .stdin(Stdio::piped())
-        .stdout(Stdio::piped())
-        .stderr(Stdio::piped())
-        .spawn()
-        .expect("python3 is needed; tests/prepare-host installs it");
-    child
-        .stdin
-        .take()
-        .expect("stdin")
-        .write_all(ks.as_bytes())
-        .expect("write to python3");
-    let out = child.wait_with_output().expect("python3 output");
-    assert!(
-        out.status.success(),
-        "python3 failed: {}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    let python: Vec<f64> = String::from_utf8_lossy(&out.stdout)
-        .split_whitespace()
-        .map(parse)
-        .collect();
+    let stdout = run_python(script, &ks);
+    let python: Vec<f64> = stdout.split_whitespace().map(parse).collect();
     assert_eq!(python.len(), 4);
     // Measured: all four agree to 9e-16 relative (one or two units in the
     // last place).
@@ -280,26 +284,8 @@ fn extreme_values_agree_with_pythons_exact_statistics() {
                   \x20       except OverflowError:\n\
                   \x20           out.append('inf')\n\
                   \x20   print(*out)\n";
-    let mut child = Command::new("python3")
-        .args(["-c", script])
-        .stdin(Stdio::piped())
-        .stdout(Stdio::piped())
-        .stderr(Stdio::piped())
-        .spawn()
-        .expect("python3 is needed; tests/prepare-host installs it");
-    child
-        .stdin
-        .take()
-        .expect("stdin")
-        .write_all(sets.join("\n").as_bytes())
-        .expect("write to python3");
-    let out = child.wait_with_output().expect("python3 output");
-    assert!(
-        out.status.success(),
-        "python3 failed: {}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    let python = String::from_utf8_lossy(&out.stdout).into_owned();
+    let stdout = run_python(script, &sets.join("\n"));
+    let python = stdout;
     for (set, line) in sets.iter().zip(python.lines()) {
         let want: Vec<f64> = line.split_whitespace().map(parse).collect();
         let values = set

@@ -281,19 +281,7 @@ mod tests {
     use crate::interrupt::Never;
 
     fn square(lon: f64, lat: f64, h: f64) -> Prepared {
-        let ring = vec![
-            lon - h,
-            lat - h,
-            lon + h,
-            lat - h,
-            lon + h,
-            lat + h,
-            lon - h,
-            lat + h,
-            lon - h,
-            lat - h,
-        ];
-        Prepared::new(&Geometry::new(Dimensions::Xy, Shape::Polygon(vec![ring])))
+        Prepared::new(&crate::testing::square(lon, lat, h))
     }
 
     /// The pieces' geodesic areas add up to the polygon's (Karney's area of

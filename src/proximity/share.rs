@@ -1211,23 +1211,10 @@ mod tests {
 #[cfg(test)]
 mod interrupt_tests {
     use super::*;
-    use crate::geometry::{Dimensions, Shape};
     use crate::interrupt::{AfterChecks, Never};
 
     fn square(lon: f64, lat: f64, h: f64) -> Prepared {
-        let ring = vec![
-            lon - h,
-            lat - h,
-            lon + h,
-            lat - h,
-            lon + h,
-            lat + h,
-            lon - h,
-            lat + h,
-            lon - h,
-            lat - h,
-        ];
-        Prepared::new(&Geometry::new(Dimensions::Xy, Shape::Polygon(vec![ring])))
+        Prepared::new(&crate::testing::square(lon, lat, h))
     }
 
     /// Stopped at each of its checks in turn, the share reports the
