@@ -13,6 +13,7 @@ pub mod interrupt;
 pub mod memory;
 pub mod proximity;
 pub mod render;
+pub mod reproject;
 pub mod sql;
 pub mod stats;
 pub mod units;
