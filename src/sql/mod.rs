@@ -17,6 +17,7 @@ pub mod layer;
 pub mod measure;
 pub mod progress;
 pub mod render;
+pub mod reproject;
 pub mod state;
 pub mod stats;
 pub mod sweep;
@@ -115,6 +116,7 @@ pub fn register(conn: &Connection) -> rusqlite::Result<()> {
     render::register(conn)?;
     stats::register(conn)?;
     tables::register(conn, &state)?;
+    reproject::register(conn, &state)?;
     Ok(())
 }
 
