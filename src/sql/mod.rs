@@ -61,6 +61,7 @@ pub fn functions() -> impl Iterator<Item = &'static SqlFunction> {
         layer::FUNCTIONS,
         units::FUNCTIONS,
         info::FUNCTIONS,
+        gpkg::FUNCTIONS,
     ]
     .into_iter()
     .flatten()
