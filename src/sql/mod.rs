@@ -16,6 +16,7 @@ pub mod io;
 pub mod layer;
 pub mod measure;
 pub mod progress;
+pub mod read;
 pub mod render;
 pub mod state;
 pub mod stats;
@@ -115,6 +116,7 @@ pub fn register(conn: &Connection) -> rusqlite::Result<()> {
     render::register(conn)?;
     stats::register(conn)?;
     tables::register(conn, &state)?;
+    read::register(conn, &state)?;
     Ok(())
 }
 
