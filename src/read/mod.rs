@@ -108,15 +108,16 @@ impl Options {
                     }
                 }
                 "format" => {
-                    o.format =
-                        Some(match s.to_ascii_lowercase().as_str() {
-                            "shapefile" => Format::Shapefile,
-                            "csv" => Format::Csv,
-                            "geojson" => Format::GeoJson,
-                            _ => return Err(fail(format!(
+                    o.format = Some(match s.to_ascii_lowercase().as_str() {
+                        "shapefile" => Format::Shapefile,
+                        "csv" => Format::Csv,
+                        "geojson" => Format::GeoJson,
+                        _ => {
+                            return Err(fail(format!(
                                 "format must be \"shapefile\", \"csv\" or \"geojson\", got {s:?}"
-                            ))),
-                        })
+                            )))
+                        }
+                    })
                 }
                 "srs" => o.srs = Some(s),
                 "lon" => o.lon = Some(s),
