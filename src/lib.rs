@@ -14,6 +14,7 @@ pub mod memory;
 pub mod proximity;
 pub mod read;
 pub mod render;
+pub mod reproject;
 pub mod sql;
 pub mod stats;
 pub mod units;

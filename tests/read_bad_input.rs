@@ -171,7 +171,7 @@ fn missing_parts_and_unreadable_definitions_are_errors_naming_the_file() {
     std::fs::write(dir.join("c.prj"), "not a definition at all").unwrap();
     let e = error_of(&run(&dir, "SELECT count(*) FROM ambit_read('c.shp');"));
     assert!(
-        e.contains("c.prj: cannot use the spatial reference not a definition at all"),
+        e.contains("c.prj: spatial reference 'not a definition at all' cannot be used"),
         "{e}"
     );
     let e = error_of(&run(
@@ -179,7 +179,7 @@ fn missing_parts_and_unreadable_definitions_are_errors_naming_the_file() {
         "SELECT count(*) FROM ambit_read('c.shp', '{\"srs\": \"EPSG:banana\"}');",
     ));
     assert!(
-        e.contains("option srs: cannot use the spatial reference EPSG:banana"),
+        e.contains("option srs: spatial reference 'EPSG:banana' cannot be used"),
         "{e}"
     );
     // A .dbf that belongs to another shapefile: the counts differ.

@@ -70,11 +70,7 @@ pub enum ReadError {
     /// A file whose structure is broken beyond one row.
     Corrupt { file: String, message: String },
     /// A spatial reference definition that cannot be used.
-    Definition {
-        file: String,
-        definition: String,
-        message: String,
-    },
+    Definition { file: String, message: String },
     /// A row that cannot be read, when bad rows are errors.
     BadRow {
         file: String,
@@ -103,11 +99,7 @@ impl fmt::Display for ReadError {
                 "{file}: the shapefile has no {part} file beside it; a shapefile is read from its .shp, .shx and .dbf together (an incomplete download or unzip?)"
             ),
             ReadError::Corrupt { file, message } => write!(f, "{file}: {message}"),
-            ReadError::Definition { file, definition, message } => {
-                let shown: String = definition.chars().take(200).collect();
-                let more = if shown.len() < definition.len() { "..." } else { "" };
-                write!(f, "{file}: cannot use the spatial reference {shown}{more}: {message}")
-            }
+            ReadError::Definition { file, message } => write!(f, "{file}: {message}"),
             ReadError::BadRow { file, row, problem } => write!(
                 f,
                 "{file}, row {row}: {problem} (to keep such rows with a NULL geom and the reason in column problem, pass '{{\"bad_rows\": \"keep\"}}')"

@@ -417,7 +417,7 @@ fn open_text(
             bytes,
             name,
             options,
-            matches!(frame, Frame::LonLat),
+            frame.is_lonlat(),
         )?),
         _ => Box::new(features::Features::open(bytes, name)?),
     };

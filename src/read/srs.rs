@@ -1,19 +1,26 @@
 //! The spatial reference of a file's coordinates: longitude/latitude as
-//! ambit measures, or a projected system to convert from.
+//! ambit measures, or another system converted with
+//! [`crate::reproject::Reprojection`].
 //!
 //! Read from a shapefile's .prj (ESRI WKT1), or given by the user as the
-//! option `srs` (an `EPSG:n` code, WKT or a PROJ string). GeoJSON is
-//! longitude/latitude on WGS84 by its standard (RFC 7946, section 4).
+//! option `srs` (an `EPSG:n` code, WKT1/ESRI WKT, WKT2 or a PROJ string),
+//! which takes the place of the file's own. A shapefile without a .prj and
+//! CSV are read as longitude/latitude unless `srs` says otherwise; GeoJSON
+//! is longitude/latitude on WGS84 by its standard (RFC 7946, section 4).
 //! NAD83 is taken as WGS84: they differ by about a metre, far below any
 //! access threshold (design.md, "Semantics").
 
-use super::ReadError;
+use super::{Problem, ReadError};
+use crate::geometry::Geometry;
+use crate::reproject::Reprojection;
 
 /// How a file's coordinates become longitude/latitude.
 #[derive(Debug)]
 pub enum Frame {
-    /// Already longitude, latitude in degrees.
+    /// Already WGS84 (or NAD83) longitude, latitude in degrees.
     LonLat,
+    /// Converted vertex by vertex.
+    Convert(Box<Reprojection>),
 }
 
 impl Frame {
@@ -21,64 +28,41 @@ impl Frame {
     /// naming the file and the definition when it cannot be read or used.
     pub fn from_definition(definition: &str, file: &str) -> Result<Frame, ReadError> {
         let text = definition.trim().trim_start_matches('\u{feff}').trim();
-        let upper = text.to_ascii_uppercase();
-        let fail = |message: &str| ReadError::Definition {
+        let r = Reprojection::from_definition(text).map_err(|e| ReadError::Definition {
             file: file.to_string(),
-            definition: text.to_string(),
-            message: message.to_string(),
-        };
-        if text.is_empty() {
-            return Err(fail("the definition is empty"));
-        }
-        let lonlat_codes = [
-            "EPSG:4326",
-            "EPSG:4269",
-            "OGC:CRS84",
-            "CRS:84",
-            "4326",
-            "4269",
-        ];
-        if lonlat_codes.contains(&upper.replace(' ', "").as_str()) {
+            message: e.to_string(),
+        })?;
+        if r.is_lonlat() && identity(&r) {
             return Ok(Frame::LonLat);
         }
-        // WKT1 (OGC 01-009, ESRI .prj): a GEOGCS at the top level is
-        // geographic; WKT2 (ISO 19162): GEOGCRS or GEODCRS.
-        let keyword: String = upper
-            .chars()
-            .take_while(|c| c.is_ascii_alphanumeric() || *c == '_')
-            .collect();
-        let bracket = upper[keyword.len()..].trim_start().starts_with(['[', '(']);
-        if bracket
-            && matches!(
-                keyword.as_str(),
-                "GEOGCS" | "GEOGCRS" | "GEODCRS" | "GEOGRAPHICCRS"
-            )
-        {
-            return Ok(Frame::LonLat);
+        Ok(Frame::Convert(Box::new(r)))
+    }
+
+    /// True when coordinates are checked as longitude/latitude as read.
+    pub fn is_lonlat(&self) -> bool {
+        matches!(self, Frame::LonLat)
+    }
+
+    /// Converts `g` to longitude/latitude in place.
+    pub fn to_lonlat(&self, g: &mut Geometry) -> Result<(), Problem> {
+        match self {
+            Frame::LonLat => Ok(()),
+            Frame::Convert(r) => r.to_lonlat(g).map_err(Problem::Geometry),
         }
-        if upper.starts_with("+PROJ=LONGLAT") || upper.starts_with("+PROJ=LATLONG") {
-            return Ok(Frame::LonLat);
-        }
-        let projected = (bracket
-            && matches!(keyword.as_str(), "PROJCS" | "PROJCRS" | "PROJECTEDCRS"))
-            || upper.starts_with("+PROJ=")
-            || upper.starts_with("EPSG:");
-        if projected {
-            return Err(fail(
-                "a projected system; this build of ambit reads only longitude/latitude files (convert the file to EPSG:4326 first)",
-            ));
-        }
-        Err(fail(
-            "not a definition ambit can read (EPSG:n, WKT as in a .prj file, or a PROJ string)",
-        ))
     }
 }
 
-impl Frame {
-    /// Converts `g` to longitude/latitude in place.
-    pub fn to_lonlat(&self, _g: &mut crate::geometry::Geometry) -> Result<(), super::Problem> {
-        match self {
-            Frame::LonLat => Ok(()),
-        }
-    }
+/// True when a longitude/latitude system leaves coordinates as they are
+/// (WGS84 or NAD83, Greenwich, degrees): then no vertex needs converting.
+/// Tested on three points spread over the globe, to 1e-11 degrees (about
+/// a micrometre).
+fn identity(r: &Reprojection) -> bool {
+    [(-120.5, 38.25), (10.0, -45.0), (150.0, 70.0)]
+        .iter()
+        .all(|&(x, y)| {
+            let mut g = Geometry::point(x, y);
+            r.to_lonlat(&mut g).is_ok()
+                && g.point_values()
+                    .is_some_and(|p| (p[0] - x).abs() < 1e-11 && (p[1] - y).abs() < 1e-11)
+        })
 }

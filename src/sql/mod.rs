@@ -18,6 +18,7 @@ pub mod measure;
 pub mod progress;
 pub mod read;
 pub mod render;
+pub mod reproject;
 pub mod state;
 pub mod stats;
 pub mod sweep;
@@ -117,6 +118,7 @@ pub fn register(conn: &Connection) -> rusqlite::Result<()> {
     stats::register(conn)?;
     tables::register(conn, &state)?;
     read::register(conn, &state)?;
+    reproject::register(conn, &state)?;
     Ok(())
 }
 
