@@ -13,7 +13,7 @@
 //!
 //! | type | dBASE meaning | value |
 //! | --- | --- | --- |
-//! | C | character | TEXT, trailing blanks removed (leading zeros kept) |
+//! | C | character | TEXT, blanks around it removed (leading zeros kept) |
 //! | N | numeric, decimal text | INTEGER when it has no decimals, else REAL; blank: NULL |
 //! | F | floating, decimal text | REAL; blank: NULL |
 //! | D | date, YYYYMMDD | TEXT 'YYYY-MM-DD' (ISO 8601); blank: NULL |
@@ -265,11 +265,10 @@ impl Table {
         };
         Ok(match f.kind {
             b'C' => {
-                let end = raw
-                    .iter()
-                    .rposition(|&b| b != b' ' && b != 0)
-                    .map_or(0, |p| p + 1);
-                Value::String(self.codec.decode(&raw[..end], &f.name)?)
+                let kept = |b: &u8| *b != b' ' && *b != 0;
+                let end = raw.iter().rposition(kept).map_or(0, |p| p + 1);
+                let start = raw[..end].iter().position(kept).unwrap_or(end);
+                Value::String(self.codec.decode(&raw[start..end], &f.name)?)
             }
             b'N' | b'F' => {
                 let t = trimmed(raw);
