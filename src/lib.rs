@@ -12,6 +12,7 @@ pub mod geometry;
 pub mod interrupt;
 pub mod memory;
 pub mod proximity;
+pub mod read;
 pub mod render;
 pub mod reproject;
 pub mod sql;

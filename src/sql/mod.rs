@@ -16,6 +16,7 @@ pub mod io;
 pub mod layer;
 pub mod measure;
 pub mod progress;
+pub mod read;
 pub mod render;
 pub mod reproject;
 pub mod state;
@@ -117,6 +118,7 @@ pub fn register(conn: &Connection) -> rusqlite::Result<()> {
     render::register(conn)?;
     stats::register(conn)?;
     tables::register(conn, &state)?;
+    read::register(conn, &state)?;
     reproject::register(conn, &state)?;
     Ok(())
 }
