@@ -17,6 +17,20 @@ use super::ReadError;
 /// 1 (RFC 1951 allows 258 bytes from a 2-bit code); 1100 leaves room.
 const MAX_RATIO: u64 = 1100;
 
+/// The endings of the zip members ambit_read reads.
+pub const MEMBERS: [&str; 10] = [
+    ".shp",
+    ".shx",
+    ".dbf",
+    ".prj",
+    ".cpg",
+    ".csv",
+    ".tsv",
+    ".geojson",
+    ".ndjson",
+    ".geojsonl",
+];
+
 /// True when `name` matches `pattern` (`*` and `?`).
 pub fn matches(pattern: &[char], name: &[char]) -> bool {
     // Iterative wildcard matching with one backtrack point: linear in
@@ -129,25 +143,44 @@ pub fn sibling(path: &Path, ext: &str) -> Result<Option<(PathBuf, Vec<u8>)>, Rea
     Ok(None)
 }
 
-/// The members of a zip archive: (name, bytes), directories and
-/// `__MACOSX/` resource files left out, in archive order.
+/// The members of a zip archive that can be part of a dataset (see
+/// [`MEMBERS`]): (name, bytes), in archive order. Directories, `__MACOSX/`
+/// resource files and other members (metadata, spatial index files) are
+/// not inflated. The sizes of all members together may not exceed what
+/// deflate can produce from the archive, so overlapping members cannot
+/// multiply the memory used.
 pub fn unzip(bytes: Vec<u8>, file: &str) -> Result<Vec<(String, Vec<u8>)>, ReadError> {
     let corrupt = |message: String| ReadError::Corrupt {
         file: file.to_string(),
         message,
     };
+    let archive_len = bytes.len();
     let mut archive = zip::ZipArchive::new(std::io::Cursor::new(bytes))
         .map_err(|e| corrupt(format!("not a readable zip archive: {e}")))?;
+    let budget = (archive_len as u64)
+        .saturating_mul(MAX_RATIO)
+        .saturating_add(1024);
+    let mut total = 0u64;
     let mut out = Vec::new();
     for i in 0..archive.len() {
         let mut entry = archive
             .by_index(i)
             .map_err(|e| corrupt(format!("member {} cannot be read: {e}", i + 1)))?;
         let name = entry.name().to_string();
-        if entry.is_dir() || name.starts_with("__MACOSX/") {
+        let lower = name.to_ascii_lowercase();
+        if entry.is_dir()
+            || name.starts_with("__MACOSX/")
+            || !MEMBERS.iter().any(|e| lower.ends_with(e))
+        {
             continue;
         }
         let size = entry.size();
+        total = total.saturating_add(size);
+        if total > budget {
+            return Err(corrupt(format!(
+                "its members claim {total} bytes in all, more than deflate can produce from an archive of {archive_len} bytes: the archive is corrupt"
+            )));
+        }
         let packed = entry.compressed_size();
         if size > packed.saturating_mul(MAX_RATIO).saturating_add(1024) {
             return Err(corrupt(format!(
@@ -155,6 +188,12 @@ pub fn unzip(bytes: Vec<u8>, file: &str) -> Result<Vec<(String, Vec<u8>)>, ReadE
             )));
         }
         let mut data = Vec::new();
+        // The size is bounded above by MAX_RATIO times the archive's bytes.
+        data.try_reserve_exact(size as usize).map_err(|_| {
+            corrupt(format!(
+                "member {name} of {size} bytes does not fit in memory"
+            ))
+        })?;
         (&mut entry)
             .take(size.saturating_add(1))
             .read_to_end(&mut data)

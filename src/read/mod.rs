@@ -262,6 +262,38 @@ fn finish(raw: RawRow, d: &Dataset, bad_rows: BadRows) -> Result<Row, ReadError>
     }
 }
 
+/// Reads one file held in memory, named `name` (its extension tells the
+/// format: .zip, .csv, .geojson and the others of ambit_read; a bare .shp
+/// has no parts beside it in memory, so shapefiles come inside a .zip).
+/// All rows at once: for tests and fuzzing, where files are small.
+pub fn read_bytes(name: &str, bytes: Vec<u8>, options: &Options) -> Result<Vec<Row>, ReadError> {
+    let sets = if name.to_ascii_lowercase().ends_with(".zip") {
+        open_zip(name, bytes, options)?
+    } else {
+        match options.format.or_else(|| format_of(name)) {
+            Some(Format::Shapefile) => {
+                return Err(ReadError::MissingPart {
+                    file: name.to_string(),
+                    part: ".shx",
+                })
+            }
+            Some(f) => vec![open_text(name, bytes, f, options)?],
+            None => {
+                return Err(ReadError::UnknownFormat {
+                    file: name.to_string(),
+                })
+            }
+        }
+    };
+    let mut rows = Vec::new();
+    for mut d in sets {
+        while let Some(raw) = d.rows.next_row()? {
+            rows.push(finish(raw, &d, options.bad_rows)?);
+        }
+    }
+    Ok(rows)
+}
+
 /// The format a file name tells, if any.
 fn format_of(name: &str) -> Option<Format> {
     let lower = name.to_ascii_lowercase();
