@@ -337,3 +337,102 @@ fn a_pattern_reads_many_files_in_one_statement() {
         out.stderr
     );
 }
+
+/// Writes a zip archive with `members` (name, bytes) using Python's zipfile
+/// (deflated), an independent writer.
+fn zip_with(path: &Path, members: &[(&str, Vec<u8>)]) {
+    let dir = path.parent().unwrap();
+    let mut names = Vec::new();
+    for (i, (name, bytes)) in members.iter().enumerate() {
+        let part = dir.join(format!("member-{i}"));
+        std::fs::write(&part, bytes).unwrap();
+        names.push(format!("({:?}, {:?})", part.display().to_string(), name));
+    }
+    let script = format!(
+        "import zipfile\nwith zipfile.ZipFile({:?}, 'w', zipfile.ZIP_DEFLATED) as z:\n    for src, name in [{}]:\n        z.write(src, name)\n",
+        path.display().to_string(),
+        names.join(", ")
+    );
+    let status = std::process::Command::new("python3")
+        .arg("-c")
+        .arg(script)
+        .status()
+        .unwrap();
+    assert!(status.success());
+}
+
+#[test]
+fn zips_cut_short_or_without_a_part_are_errors_naming_the_archive() {
+    let dir = folder("zips");
+    point_shapefile(&dir, "s", &[Some((1.0, 2.0))], &[b"x"], 0);
+    let part = |ext: &str| std::fs::read(dir.join(format!("s.{ext}"))).unwrap();
+    zip_with(
+        &dir.join("whole.zip"),
+        &[
+            ("s.shp", part("shp")),
+            ("s.shx", part("shx")),
+            ("s.dbf", part("dbf")),
+        ],
+    );
+    zip_with(
+        &dir.join("nodbf.zip"),
+        &[("s.shp", part("shp")), ("s.shx", part("shx"))],
+    );
+    let out = run(
+        &dir,
+        "SELECT file, row, ST_AsText(geom) FROM ambit_read('whole.zip');",
+    );
+    assert_eq!(
+        out.stdout.trim(),
+        "whole.zip/s.shp|1|POINT (1 2)",
+        "{}",
+        out.stderr
+    );
+    let e = error_of(&run(&dir, "SELECT count(*) FROM ambit_read('nodbf.zip');"));
+    assert!(
+        e.contains("nodbf.zip/s.shp: the shapefile has no .dbf file"),
+        "{e}"
+    );
+    // The same archive cut at every tenth byte: always an error, never a crash.
+    let bytes = std::fs::read(dir.join("whole.zip")).unwrap();
+    for cut in (1..bytes.len()).step_by(10) {
+        std::fs::write(dir.join("cut.zip"), &bytes[..cut]).unwrap();
+        let r = run(&dir, "SELECT count(*) FROM ambit_read('cut.zip');");
+        assert!(
+            r.status == 1 && r.stderr.contains("ambit_read: cut.zip"),
+            "cut at {cut}: {} {}",
+            r.status,
+            r.stderr
+        );
+    }
+}
+
+#[test]
+fn geojson_features_without_a_valid_geometry_are_reported() {
+    let dir = folder("geojson");
+    std::fs::write(
+        dir.join("parks.ndjson"),
+        "{\"type\":\"Feature\",\"properties\":{\"name\":\"a\"},\"geometry\":{\"type\":\"Point\",\"coordinates\":[-120.5,38.25]}}\n\
+         \n\
+         {\"type\":\"Feature\",\"properties\":{\"name\":\"b\"},\"geometry\":null}\n\
+         {not json\n\
+         {\"type\":\"Feature\",\"properties\":{\"name\":\"d\"},\"geometry\":{\"type\":\"Polygon\",\"coordinates\":[[[0,0],[1,1],[1,0],[0,1],[0,0]]]}}\n",
+    )
+    .unwrap();
+    let out = run(&dir, "SELECT row, json_extract(attributes, '$.name'), ST_AsText(geom), substr(problem, 1, 40) FROM ambit_read('parks.ndjson', '{\"bad_rows\": \"keep\"}');");
+    let lines: Vec<&str> = out.stdout.lines().collect();
+    assert_eq!(lines.len(), 4, "{}\n{}", out.stdout, out.stderr);
+    assert_eq!(lines[0], "1|a|POINT (-120.5 38.25)|");
+    assert_eq!(lines[1], "2|b||the feature's geometry is null");
+    assert!(lines[2].starts_with("3|||invalid JSON"), "{}", lines[2]);
+    // A bow tie: the ring crosses itself (README, "Valid geometries").
+    assert!(lines[3].starts_with("4|d||invalid polygon"), "{}", lines[3]);
+    let e = error_of(&run(
+        &dir,
+        "SELECT count(*) FROM ambit_read('parks.ndjson');",
+    ));
+    assert!(
+        e.contains("parks.ndjson, row 2: the feature's geometry is null"),
+        "{e}"
+    );
+}

@@ -548,3 +548,100 @@ fn open_zip(name: &str, bytes: Vec<u8>, options: &Options) -> Result<Vec<Dataset
     }
     Ok(out)
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::geometry::Shape;
+
+    #[test]
+    fn patterns_match_names_without_backtracking_blowup() {
+        let m = |p: &str, n: &str| {
+            files::matches(
+                &p.chars().collect::<Vec<_>>(),
+                &n.chars().collect::<Vec<_>>(),
+            )
+        };
+        assert!(m("blocks_*.zip", "blocks_99001.zip"));
+        assert!(m("blocks_?????.zip", "blocks_99001.zip"));
+        assert!(!m("blocks_*.zip", "blocks_99001.shp"));
+        assert!(!m("blocks_??.zip", "blocks_99001.zip"));
+        // A pattern that is exponential for naive recursive matching.
+        let long = "a".repeat(5000);
+        assert!(!m("*a*a*a*a*a*a*a*a*b", &long));
+    }
+
+    #[test]
+    fn code_pages_are_named_as_the_cpg_files_name_them() {
+        // Labels of the WHATWG Encoding Standard (which maps iso-8859-1 to
+        // windows-1252); DOS code pages are not in it.
+        let name = |t: &str| match dbf::codec_of_cpg(t) {
+            Some(dbf::Codec::Declared(e)) => e.name().to_string(),
+            Some(dbf::Codec::AsciiOnly(p)) => format!("ascii-only {p}"),
+            Some(dbf::Codec::Undeclared) => "undeclared".into(),
+            None => "unknown".into(),
+        };
+        assert_eq!(name("UTF-8\r\n"), "UTF-8");
+        assert_eq!(name("1252"), "windows-1252");
+        assert_eq!(name("88591"), "windows-1252");
+        assert_eq!(name("ISO-8859-2"), "ISO-8859-2");
+        assert_eq!(name("437"), "ascii-only 437");
+        assert_eq!(name("no such page"), "unknown");
+    }
+
+    /// A polygon record's content (ESRI 1998, "Polygon"): type 5, box,
+    /// NumParts, NumPoints, Parts, Points.
+    fn polygon_record(rings: &[&[(f64, f64)]]) -> Vec<u8> {
+        let mut c = 5i32.to_le_bytes().to_vec();
+        c.extend([0u8; 32]);
+        let points: usize = rings.iter().map(|r| r.len()).sum();
+        c.extend((rings.len() as i32).to_le_bytes());
+        c.extend((points as i32).to_le_bytes());
+        let mut start = 0i32;
+        for r in rings {
+            c.extend(start.to_le_bytes());
+            start += r.len() as i32;
+        }
+        for r in rings {
+            for (x, y) in r.iter() {
+                c.extend(x.to_le_bytes());
+                c.extend(y.to_le_bytes());
+            }
+        }
+        c
+    }
+
+    #[test]
+    fn holes_go_to_the_outer_ring_that_contains_them() {
+        // ESRI 1998: outer rings clockwise, holes counterclockwise.
+        let a: &[(f64, f64)] = &[(0.0, 0.0), (0.0, 1.0), (1.0, 1.0), (1.0, 0.0), (0.0, 0.0)];
+        let b: &[(f64, f64)] = &[(2.0, 0.0), (2.0, 1.0), (3.0, 1.0), (3.0, 0.0), (2.0, 0.0)];
+        let hole: &[(f64, f64)] = &[(2.2, 0.2), (2.8, 0.2), (2.8, 0.8), (2.2, 0.8), (2.2, 0.2)];
+        let g = shp::shape(&polygon_record(&[a, b, hole])).unwrap();
+        let Shape::MultiPolygon(polys) = g.shape else {
+            panic!("two outer rings make a multipolygon: {g:?}");
+        };
+        assert_eq!(polys.len(), 2);
+        assert_eq!(polys[0].len(), 1);
+        assert_eq!(polys[1].len(), 2, "the hole lies in the second outer ring");
+        // One ring drawn counterclockwise (against the description) is
+        // still an area, not a hole of nothing.
+        let ccw: Vec<(f64, f64)> = a.iter().rev().copied().collect();
+        let g = shp::shape(&polygon_record(&[&ccw])).unwrap();
+        assert!(matches!(g.shape, Shape::Polygon(ref r) if r.len() == 1));
+    }
+
+    #[test]
+    fn a_csv_in_utm_is_converted_with_the_srs_option() {
+        let options = Options::from_json(r#"{"srs": "EPSG:32609"}"#).unwrap();
+        let rows = read_bytes("d.csv", b"x,y\n500000,0\n".to_vec(), &options).unwrap();
+        let g = blob::decode(rows[0].geom.as_ref().unwrap())
+            .unwrap()
+            .geometry;
+        let p = g.point_values().unwrap();
+        // UTM zone 9: central meridian 6 * 9 - 183 = -129 degrees, false
+        // easting 500000 m, false northing 0 on the equator (the UTM
+        // definition).
+        assert!((p[0] + 129.0).abs() < 1e-9 && p[1].abs() < 1e-9, "{p:?}");
+    }
+}

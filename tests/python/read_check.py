@@ -99,7 +99,8 @@ def compare(conn, path, options=None, reference=None, tolerance=None):
     name = os.path.basename(path)
     check(len(rows) == len(geoms), f"{name}: {len(rows)} rows, GDAL {len(geoms)}")
     to_lonlat = None
-    crs = CRS.from_user_input(meta["crs"]) if meta["crs"] else None
+    crs = (options or {}).get("crs") or meta["crs"]
+    crs = CRS.from_user_input(crs) if crs else None
     if crs is not None and crs.is_projected:
         to_lonlat = Transformer.from_crs(crs, crs.geodetic_crs, always_xy=True)
     for i, (file, row, wkb, attributes, problem) in enumerate(rows):
@@ -272,6 +273,26 @@ def main(library):
         csv = os.path.join(folder, "clinics.csv")
         open(csv, "w").write("id,name,lat,lon\n01,North,38.5,-120.25\n02,,38.125,-120.0625\n")
         compare(conn, csv, {"gdal": {"X_POSSIBLE_NAMES": "lon", "Y_POSSIBLE_NAMES": "lat", "KEEP_GEOM_COLUMNS": "NO"}})
+        # A CSV in UTM 17N metres, its system given with the option srs,
+        # and one with a WKT column in Albers (5070).
+        utm = os.path.join(folder, "depots.csv")
+        open(utm, "w").write("code,easting,northing\nA1,500000,4200000\nA2,612345.5,4099876.25\n")
+        compare(
+            conn,
+            utm,
+            {
+                "ambit": '{"srs": "EPSG:32617", "lon": "easting", "lat": "northing"}',
+                "gdal": {"X_POSSIBLE_NAMES": "easting", "Y_POSSIBLE_NAMES": "northing", "KEEP_GEOM_COLUMNS": "NO"},
+                "crs": "EPSG:32617",
+            },
+        )
+        albers = os.path.join(folder, "zones.csv")
+        open(albers, "w").write('zone,wkt\nZ1,"POLYGON ((-2000000 1900000, -2000000 1910000, -1990000 1910000, -1990000 1900000, -2000000 1900000))"\n')
+        compare(
+            conn,
+            albers,
+            {"ambit": '{"srs": "EPSG:5070"}', "gdal": {"GEOM_POSSIBLE_NAMES": "wkt", "KEEP_GEOM_COLUMNS": "NO"}, "crs": "EPSG:5070"},
+        )
 
     # Real open shapefiles carried by libpysal.
     examples = os.path.join(os.path.dirname(libpysal.__file__), "examples")
