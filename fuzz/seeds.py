@@ -117,3 +117,19 @@ for name, text in WKT.items():
     write("corpus/wkt_parse", name, text.encode())
 for name, value in GEOJSON.items():
     write("corpus/geojson_parse", name, json.dumps(value).encode())
+
+# ambit_read's readers: the first byte picks the format (read_files), or
+# gives where the .shp ends and the .dbf begins (read_shapefile). The
+# shapefile seeds come from the README's fixture archive.
+import zipfile  # noqa: E402
+
+FIXTURE = os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "tests", "fixtures", "read")
+archive = open(os.path.join(FIXTURE, "blocks_99001.zip"), "rb").read()
+write("corpus/read_files", "zip", b"\x00" + archive)
+write("corpus/read_files", "csv", b"\x01" + open(os.path.join(FIXTURE, "clinics.csv"), "rb").read())
+write("corpus/read_files", "geojson", b"\x02" + json.dumps({"type": "FeatureCollection", "features": [
+    {"type": "Feature", "properties": {"a": 1}, "geometry": GEOJSON[next(iter(GEOJSON))]}]}).encode())
+write("corpus/read_files", "ndjson", b"\x03" + b'{"type":"Point","coordinates":[1,2]}\n{"type":"Feature","properties":null,"geometry":null}\n')
+with zipfile.ZipFile(os.path.join(FIXTURE, "blocks_99001.zip")) as z:
+    shp, dbf = z.read("blocks_99001.shp"), z.read("blocks_99001.dbf")
+write("corpus/read_shapefile", "polygons", struct.pack("<H", len(shp)) + shp + dbf)

@@ -98,7 +98,11 @@
 
 -- 1. Parameters: every choice in one place, written into the results. ----
 DROP TABLE IF EXISTS care_parameters;
-CREATE TABLE care_parameters AS SELECT
+CREATE TABLE care_parameters (build_year INTEGER, catchment_m REAL, zone1_limit_m REAL,
+  zone2_limit_m REAL, zone1_weight REAL, zone2_weight REAL, zone3_weight REAL,
+  per_residents INTEGER, blocks_table TEXT, clinics_table TEXT, counties_table TEXT,
+  method TEXT, ambit_version TEXT, ambit_info TEXT, sqlite_version TEXT);
+INSERT INTO care_parameters SELECT
   2026                   AS build_year,
   ambit_miles(10)        AS catchment_m,      -- d0 (a choice, not a standard)
   ambit_miles(10) / 3    AS zone1_limit_m,    -- E2SFCA zones: thirds of d0
@@ -175,7 +179,10 @@ DROP TABLE clinic_catchment;
 
 -- What the clinic list held, and what was left out.
 DROP TABLE IF EXISTS clinic_sources;
-CREATE TABLE clinic_sources AS
+CREATE TABLE clinic_sources (listed INTEGER, unknown_capacity INTEGER,
+  without_location INTEGER, used INTEGER, providers_used REAL,
+  without_residents INTEGER, providers_reaching_residents REAL);
+INSERT INTO clinic_sources
   SELECT count(*) AS listed,
          coalesce(sum(providers IS NULL), 0) AS unknown_capacity,
          coalesce(sum(geom IS NULL), 0) AS without_location,
@@ -263,6 +270,12 @@ INSERT INTO county_care (county_geoid, county_name, build_year, blocks, populati
 -- 7. GeoPackage layers, with the cautions in their descriptions. ---------
 SELECT ambit_gpkg_register('block_care', 'geom', 'POLYGON');
 SELECT ambit_gpkg_register('county_care', 'geom', 'MULTIPOLYGON');
+-- Tables without geometry, registered as GeoPackage attributes tables so
+-- GIS programs list them with their column types.
+SELECT ambit_gpkg_register('care_parameters', NULL);
+SELECT ambit_gpkg_register('clinic_ratio', NULL);
+SELECT ambit_gpkg_register('clinic_sources', NULL);
+SELECT ambit_gpkg_register('block_care_results', NULL);
 UPDATE gpkg_contents SET description =
   'Spatial access to primary care by census block: access_2sfca (Luo & Wang 2003) and access_e2sfca '
   || '(Luo & Qi 2009, weights 1, 0.68, 0.22 on thirds of the catchment) in providers per resident, '

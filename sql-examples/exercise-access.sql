@@ -37,7 +37,12 @@
 
 -- 1. Parameters: every choice in one place, written into the results. ----
 DROP TABLE IF EXISTS build_parameters;
-CREATE TABLE build_parameters AS SELECT
+CREATE TABLE build_parameters (build_year INTEGER, park_reach_m REAL,
+  urban_facility_reach_m REAL, rural_facility_reach_m REAL,
+  same_facility_within_m REAL, blocks_table TEXT, parks_table TEXT,
+  facility_tables TEXT, urban_table TEXT, ambit_version TEXT, ambit_info TEXT,
+  sqlite_version TEXT);
+INSERT INTO build_parameters SELECT
   2026                   AS build_year,
   ambit_miles(0.5)       AS park_reach_m,
   ambit_miles(1)         AS urban_facility_reach_m,
@@ -76,7 +81,9 @@ INSERT INTO facilities (source, source_id, name, geom)
   WHERE geom IS NOT NULL AND ambit_reached('registry_sites', geom) = 0;
 
 DROP TABLE IF EXISTS facility_sources;
-CREATE TABLE facility_sources AS
+CREATE TABLE facility_sources (source TEXT, entries INTEGER,
+  without_location INTEGER, kept INTEGER);
+INSERT INTO facility_sources
   SELECT 'rec_sites' AS source, count(*) AS entries, sum(geom IS NULL) AS without_location,
          (SELECT count(*) FROM facilities WHERE source = 'rec_sites') AS kept
   FROM rec_sites
@@ -158,6 +165,11 @@ INSERT INTO county_access (county_geoid, county_name, build_year, blocks, blocks
 SELECT ambit_gpkg_register('block_access', 'geom', 'POLYGON');
 SELECT ambit_gpkg_register('county_access', 'geom', 'MULTIPOLYGON');
 SELECT ambit_gpkg_register('facilities', 'geom', 'POINT');
+-- Tables without geometry, registered as GeoPackage attributes tables so
+-- GIS programs list them with their column types.
+SELECT ambit_gpkg_register('build_parameters', NULL);
+SELECT ambit_gpkg_register('facility_sources', NULL);
+SELECT ambit_gpkg_register('block_results', NULL);
 UPDATE gpkg_contents SET description =
   'Exercise access by census block: access = 1 when a park lies within 0.5 mile of the block boundary, '
   || 'or a recreation facility within 1 mile (urban) or 3 miles (rural); exact geodesic distances (ambit '

@@ -57,7 +57,11 @@
 
 -- 1. Parameters: every choice in one place, written into the results. ----
 DROP TABLE IF EXISTS food_access_parameters;
-CREATE TABLE food_access_parameters AS SELECT
+CREATE TABLE food_access_parameters (build_year INTEGER, urban_low_access_m REAL,
+  rural_low_access_m REAL, definition_source TEXT, urban_rule TEXT,
+  distance_rule TEXT, blocks_table TEXT, stores_table TEXT, urban_table TEXT,
+  ambit_version TEXT, ambit_info TEXT, sqlite_version TEXT);
+INSERT INTO food_access_parameters SELECT
   2026                   AS build_year,
   ambit_miles(1)         AS urban_low_access_m,   -- beyond this, urban low access
   ambit_miles(10)        AS rural_low_access_m,   -- beyond this, rural low access
@@ -90,7 +94,9 @@ INSERT INTO food_stores (fid, store_id, name, kind, geom)
   WHERE kind IN (SELECT kind FROM food_access_store_kinds) AND geom IS NOT NULL;
 
 DROP TABLE IF EXISTS food_store_counts;
-CREATE TABLE food_store_counts AS
+CREATE TABLE food_store_counts (kind TEXT, listed INTEGER, counted INTEGER,
+  without_location INTEGER);
+INSERT INTO food_store_counts
   SELECT kind, count(*) AS listed,
          kind IN (SELECT kind FROM food_access_store_kinds) AS counted,
          sum(geom IS NULL) AS without_location
@@ -187,6 +193,12 @@ INSERT INTO county_food_access (county_geoid, county_name, build_year, populatio
 SELECT ambit_gpkg_register('food_stores', 'geom', 'POINT');
 SELECT ambit_gpkg_register('block_food_access', 'geom', 'POLYGON');
 SELECT ambit_gpkg_register('county_food_access', 'geom', 'MULTIPOLYGON');
+-- Tables without geometry, registered as GeoPackage attributes tables so
+-- GIS programs list them with their column types.
+SELECT ambit_gpkg_register('food_access_parameters', NULL);
+SELECT ambit_gpkg_register('food_access_store_kinds', NULL);
+SELECT ambit_gpkg_register('food_store_counts', NULL);
+SELECT ambit_gpkg_register('block_food_results', NULL);
 UPDATE gpkg_contents SET description =
   'Food stores counted for food access: supermarkets, supercenters and large grocery stores '
   || '(convenience stores left out), from groceries.'

@@ -42,7 +42,10 @@
 
 -- 1. Parameters: every choice in one place, written into the results. ----
 DROP TABLE IF EXISTS hazard_parameters;
-CREATE TABLE hazard_parameters AS SELECT
+CREATE TABLE hazard_parameters (build_year INTEGER, hazard_reach_m REAL,
+  most_exposed_listed INTEGER, blocks_table TEXT, sites_table TEXT,
+  ambit_version TEXT, ambit_info TEXT, sqlite_version TEXT);
+INSERT INTO hazard_parameters SELECT
   2026                   AS build_year,
   ambit_miles(1)         AS hazard_reach_m,     -- common practice, no source
   10                     AS most_exposed_listed, -- how many blocks to list
@@ -123,7 +126,9 @@ INSERT INTO county_hazard_proximity (county_geoid, county_name, build_year, bloc
 -- few listed are chosen from the results alone; only their polygons are
 -- read back for ambit_near. ------------------------------------------------
 DROP TABLE IF EXISTS most_exposed_blocks;
-CREATE TABLE most_exposed_blocks AS
+CREATE TABLE most_exposed_blocks (rank INTEGER, geoid TEXT, county_geoid TEXT,
+  population INTEGER, sites_within INTEGER, nearest_site_m REAL, site_kinds TEXT);
+INSERT INTO most_exposed_blocks
   SELECT row_number() OVER (ORDER BY e.sites_within DESC, e.population DESC, e.geoid) AS rank,
          e.geoid, e.county_geoid, e.population, e.sites_within,
          round(e.nearest_site_m, 1) AS nearest_site_m,
@@ -142,6 +147,11 @@ CREATE TABLE most_exposed_blocks AS
 -- 6. GeoPackage layers, with the cautions in their descriptions. ---------
 SELECT ambit_gpkg_register('block_hazard_proximity', 'geom', 'POLYGON');
 SELECT ambit_gpkg_register('county_hazard_proximity', 'geom', 'MULTIPOLYGON');
+-- Tables without geometry, registered as GeoPackage attributes tables so
+-- GIS programs list them with their column types.
+SELECT ambit_gpkg_register('hazard_parameters', NULL);
+SELECT ambit_gpkg_register('block_hazard_results', NULL);
+SELECT ambit_gpkg_register('most_exposed_blocks', NULL);
 UPDATE gpkg_contents SET description =
   'Hazard proximity by census block: near_hazard = 1 when a hazard site (point or footprint) lies '
   || 'within 1 mile of the block boundary (a screening distance, common practice); sites_within counts '

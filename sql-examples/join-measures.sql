@@ -51,7 +51,10 @@ INSERT INTO input_check
 
 -- 1. Parameters: what was joined, written into the results. -------------
 DROP TABLE IF EXISTS measures_parameters;
-CREATE TABLE measures_parameters AS SELECT
+CREATE TABLE measures_parameters (measures_file TEXT, access_table TEXT,
+  join_key TEXT, standardising TEXT, ambit_version TEXT, ambit_info TEXT,
+  sqlite_version TEXT);
+INSERT INTO measures_parameters SELECT
   'demo-db/county-measures.csv' AS measures_file,
   'county_access'        AS access_table,
   'county_geoid'         AS join_key,
@@ -130,11 +133,17 @@ INSERT INTO county_measures_joined (county_geoid, county_name, population, pct_w
 
 -- Rows of the CSV that match no county are counted, not silently lost.
 DROP TABLE IF EXISTS measures_unmatched;
-CREATE TABLE measures_unmatched AS
+CREATE TABLE measures_unmatched (county_geoid TEXT);
+INSERT INTO measures_unmatched
   SELECT county_geoid FROM county_measures
   WHERE county_geoid NOT IN (SELECT county_geoid FROM county_access);
 
 SELECT ambit_gpkg_register('county_measures_joined', 'geom', 'MULTIPOLYGON');
+-- Tables without geometry, registered as GeoPackage attributes tables so
+-- GIS programs list them with their column types.
+SELECT ambit_gpkg_register('measures_parameters', NULL);
+SELECT ambit_gpkg_register('county_measures', NULL);
+SELECT ambit_gpkg_register('measures_unmatched', NULL);
 UPDATE gpkg_contents SET description =
   'Exercise access (county_access) joined with invented county measures by county_geoid, with z-scores '
   || 'within the state (sample standard deviation). Straight-line reach is not walking access; measures '

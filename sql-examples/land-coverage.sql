@@ -36,7 +36,9 @@
 
 -- 1. Parameters. ------------------------------------------------------------
 DROP TABLE IF EXISTS coverage_parameters;
-CREATE TABLE coverage_parameters AS SELECT
+CREATE TABLE coverage_parameters (build_year INTEGER, park_reach_m REAL, land TEXT,
+  parks_table TEXT, ambit_version TEXT, ambit_info TEXT, sqlite_version TEXT);
+INSERT INTO coverage_parameters SELECT
   2026                   AS build_year,
   ambit_miles(0.5)       AS park_reach_m,
   'blocks (water = 0)'   AS land,
@@ -92,6 +94,10 @@ INSERT INTO county_land_coverage (county_geoid, county_name, build_year, land_bl
   ORDER BY l.county_geoid;
 
 SELECT ambit_gpkg_register('county_land_coverage', 'geom', 'MULTIPOLYGON');
+-- Tables without geometry, registered as GeoPackage attributes tables so
+-- GIS programs list them with their column types.
+SELECT ambit_gpkg_register('coverage_parameters', NULL);
+SELECT ambit_gpkg_register('block_land_coverage', NULL);
 UPDATE gpkg_contents SET description =
   'Share of county land (blocks that are not water-only) within 0.5 mile of a park, exact geodesic '
   || 'distances and areas (ambit ' || ambit_version() || '). Straight-line reach is not walking access; '

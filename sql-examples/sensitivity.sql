@@ -55,7 +55,10 @@ INSERT INTO park_thresholds (miles, metres)
   SELECT column1, ambit_miles(column1) FROM (VALUES (0.25), (0.5), (0.75), (1.0));
 
 DROP TABLE IF EXISTS park_sensitivity_parameters;
-CREATE TABLE park_sensitivity_parameters AS SELECT
+CREATE TABLE park_sensitivity_parameters (build_year INTEGER, thresholds_miles TEXT,
+  distance_rule TEXT, blocks_table TEXT, parks_table TEXT, ambit_version TEXT,
+  ambit_info TEXT, sqlite_version TEXT);
+INSERT INTO park_sensitivity_parameters SELECT
   2026                   AS build_year,
   (SELECT group_concat(miles, ', ') FROM (SELECT miles FROM park_thresholds ORDER BY miles))
                          AS thresholds_miles,
@@ -128,6 +131,12 @@ INSERT INTO county_park_sensitivity
   FROM temp.county_park_bands AS b CROSS JOIN park_thresholds AS t
   GROUP BY t.miles ORDER BY t.miles;
 DROP TABLE temp.county_park_bands;
+-- Tables without geometry, registered as GeoPackage attributes tables so
+-- GIS programs list them with their column types.
+SELECT ambit_gpkg_register('park_thresholds', NULL);
+SELECT ambit_gpkg_register('park_sensitivity_parameters', NULL);
+SELECT ambit_gpkg_register('block_park_distance', NULL);
+SELECT ambit_gpkg_register('county_park_sensitivity', NULL);
 
 -- 5. The long table as CSV, for joining with other county measures. ------
 .headers on

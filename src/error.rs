@@ -153,6 +153,22 @@ pub enum GeomError {
         id: i64,
         earlier: bool,
     },
+    /// A coordinate reference system definition (EPSG code, WKT or PROJ
+    /// text; `definition` quotes its start) that ambit cannot read or
+    /// does not support, and why.
+    UnknownDefinition {
+        definition: String,
+        reason: String,
+    },
+    /// A vertex (counted from 1) that the projection of `definition`
+    /// cannot convert: outside the projection's domain.
+    OutsideProjection {
+        vertex: usize,
+        x: f64,
+        y: f64,
+        definition: String,
+        reason: String,
+    },
 }
 
 /// What is wrong with an invalid polygon (see [`GeomError::InvalidPolygon`]).
@@ -344,6 +360,14 @@ impl fmt::Display for GeomError {
             DuplicateFeatureId { id, earlier: false } => {
                 write!(f, "feature id {id} is given twice")
             }
+            UnknownDefinition { definition, reason } => write!(
+                f,
+                "spatial reference {definition} cannot be used: {reason}"
+            ),
+            OutsideProjection { vertex, x, y, definition, reason } => write!(
+                f,
+                "vertex {vertex} ({x}, {y}) is outside the domain of spatial reference {definition} ({reason}); check that the data are in that system"
+            ),
         }
     }
 }

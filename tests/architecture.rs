@@ -43,7 +43,9 @@ fn only_the_sql_layer_imports_rusqlite_and_only_the_entry_point_is_unsafe() {
             "src/sql/tables.rs",
             "src/sql/sweep.rs",
             "src/sql/gpkg.rs",
+            "src/sql/reproject.rs",
             "src/sql/interrupt.rs",
+            "src/sql/read.rs",
         ]
         .contains(&rel.as_str());
         if !ffi {

@@ -72,6 +72,7 @@ fn every_example_script_is_tested() {
         ("sensitivity.sql", "tests/example_sensitivity.rs"),
         ("care-access-2sfca.sql", "tests/example_care_access.rs"),
         ("join-measures.sql", "tests/example_join_measures.rs"),
+        ("from-downloads.sql", "tests/from_downloads.rs"),
     ];
     let mut found: Vec<String> =
         std::fs::read_dir(concat!(env!("CARGO_MANIFEST_DIR"), "/sql-examples"))

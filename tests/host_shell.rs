@@ -23,8 +23,13 @@ const FUNCTIONS: &[&str] = &[
     "ST_SRID",
     "ST_GeometryType",
     "ST_IsEmpty",
+    "ST_MinX",
+    "ST_MaxX",
+    "ST_MinY",
+    "ST_MaxY",
     "ambit_from_geojson",
     "ambit_to_geojson",
+    "ambit_to_lonlat",
     "ambit_distance",
     "ambit_within",
     "ambit_area",
@@ -63,7 +68,8 @@ fn registers_the_vocabulary_deterministic_where_it_is() {
         .iter()
         .map(|f| {
             // Layer functions depend on the connection's layers,
-            // ambit_info on the thread pool, and the rendering aggregates
+            // ambit_info on the thread pool, ambit_to_lonlat on the
+            // database's gpkg_spatial_ref_sys, and the rendering aggregates
             // on the order of their rows.
             let deterministic = !matches!(
                 *f,
@@ -75,6 +81,7 @@ fn registers_the_vocabulary_deterministic_where_it_is() {
                     | "ambit_count"
                     | "ambit_share"
                     | "ambit_gpkg_register"
+                    | "ambit_to_lonlat"
                     | "ambit_feature_collection"
                     | "ambit_choropleth_svg"
             );

@@ -16,7 +16,9 @@ pub mod io;
 pub mod layer;
 pub mod measure;
 pub mod progress;
+pub mod read;
 pub mod render;
+pub mod reproject;
 pub mod state;
 pub mod stats;
 pub mod sweep;
@@ -60,6 +62,7 @@ pub fn functions() -> impl Iterator<Item = &'static SqlFunction> {
         layer::FUNCTIONS,
         units::FUNCTIONS,
         info::FUNCTIONS,
+        gpkg::FUNCTIONS,
     ]
     .into_iter()
     .flatten()
@@ -115,6 +118,8 @@ pub fn register(conn: &Connection) -> rusqlite::Result<()> {
     render::register(conn)?;
     stats::register(conn)?;
     tables::register(conn, &state)?;
+    read::register(conn, &state)?;
+    reproject::register(conn, &state)?;
     Ok(())
 }
 
