@@ -36,6 +36,7 @@ const FUNCTIONS: &[&str] = &[
     "ambit_count",
     "ambit_share",
     "ambit_gpkg_register",
+    "ambit_to_lonlat",
     "ambit_feature_collection",
     "ambit_choropleth_svg",
     "ambit_miles",
@@ -63,8 +64,9 @@ fn registers_the_vocabulary_deterministic_where_it_is() {
         .iter()
         .map(|f| {
             // Layer functions depend on the connection's layers,
-            // ambit_info on the thread pool, and the rendering aggregates
-            // on the order of their rows.
+            // ambit_info on the thread pool, ambit_to_lonlat on the
+            // database's gpkg_spatial_ref_sys, and the rendering
+            // aggregates on the order of their rows.
             let deterministic = !matches!(
                 *f,
                 "ambit_info"
@@ -75,6 +77,7 @@ fn registers_the_vocabulary_deterministic_where_it_is() {
                     | "ambit_count"
                     | "ambit_share"
                     | "ambit_gpkg_register"
+                    | "ambit_to_lonlat"
                     | "ambit_feature_collection"
                     | "ambit_choropleth_svg"
             );
