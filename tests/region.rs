@@ -1,4 +1,4 @@
-//! The invented region of `ambit-region` (src/bin/ambit-region.rs) and
+//! The invented region of `ambit-region` (src/bin/ambit-region/) and
 //! `demo-db/build-region`: the generator is deterministic, its blocks tile
 //! the land exactly (same vertices on both sides of every shared edge,
 //! areas that add up to the counties'), its GEOIDs follow the census-style
