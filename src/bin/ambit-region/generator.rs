@@ -6,9 +6,7 @@ use crate::{
         Grid, Leaf, Node, FINE, SIDE_SEGMENTS, TRACT_MAX_BLOCKS, TRACT_MAX_POP, TRACT_TOP,
         URBAN_LEVEL,
     },
-    layout::{
-        coast_lon, density, COUNTIES, FOREST_LATS, KM_PER_DEG_LAT, KM_PER_DEG_LON, LON_EAST, STATE,
-    },
+    layout::Land,
     names::{
         ACTIVITIES, BOOKMOBILE_STOP, CATEGORIES, CLINIC_ENDINGS, COUNTY_LINE_CLINIC, HAZARD_KINDS,
         PARK_KINDS, RESIDENTS_PER_BRANCH, RESIDENTS_PER_CLINIC, RURAL_RESIDENTS_PER_STORE,
@@ -42,6 +40,8 @@ pub struct Stats {
     pub unknown_capacity: u64,
     pub county_line_clinics: u64,
     pub footprints: u64,
+    /// The most vertices of one park.
+    pub max_park_vertices: usize,
 }
 
 /// A library waiting to be written: the central libraries are known only
@@ -54,7 +54,7 @@ pub struct LibraryRow {
 }
 
 pub struct Generator<'a> {
-    pub g: &'a Grid,
+    pub g: &'a Grid<'a>,
     pub seed: u64,
     pub lakes: Vec<Leaf>,
     pub blocks: Csv,
@@ -83,7 +83,7 @@ impl Generator<'_> {
     pub fn run_blocks(&mut self) -> std::io::Result<()> {
         let top = FINE << -TRACT_TOP;
         let mut leaves = Vec::new();
-        for county in 1..=COUNTIES.len() as u8 {
+        for county in 1..=self.g.lay.counties.len() as u8 {
             let mut tract_no = 0u32;
             for y in (0..self.g.h).step_by(top as usize) {
                 for x in (0..self.g.w).step_by(top as usize) {
@@ -165,9 +165,11 @@ impl Generator<'_> {
             ));
         }
         self.stats.tracts += 1;
+        let lay = self.g.lay;
         let prefix = format!(
-            "{STATE}{}{:04}{suffix:02}",
-            COUNTIES[county as usize - 1].code,
+            "{}{}{:04}{suffix:02}",
+            lay.state,
+            lay.counties[county as usize - 1].code,
             *tract_no
         );
         // Block numbers: the block group digit, then 000-099.
@@ -254,7 +256,9 @@ impl Generator<'_> {
             &wkt::write(&geom),
         ])?;
         if !water {
-            self.spawn(leaf, core.is_some())?;
+            if !g.lay.remote {
+                self.spawn(leaf, core.is_some())?;
+            }
             self.amenities(leaf, county, pop, core.is_some(), on_county_line)?;
         }
         Ok(())
@@ -284,7 +288,7 @@ impl Generator<'_> {
     ) -> std::io::Result<()> {
         let key = (leaf.level as i64, leaf.x, leaf.y);
         let (lon, lat) = self.g.leaf_center(leaf);
-        let d = density(lon, lat);
+        let d = self.g.lay.density(lon, lat);
         let best = &mut self.densest[county as usize - 1];
         if best.is_none_or(|(b, _)| d > b) {
             *best = Some((d, leaf));
@@ -316,7 +320,7 @@ impl Generator<'_> {
             let fid = self.groceries.rows + 1;
             self.groceries.write(&[
                 &fid.to_string(),
-                &format!("GR{fid:05}"),
+                &format!("GR{}{fid:05}", self.g.lay.id_prefix),
                 &name,
                 kind,
                 &wkt::write(&geom),
@@ -351,7 +355,7 @@ impl Generator<'_> {
             let fid = self.clinics.rows + 1;
             self.clinics.write(&[
                 &fid.to_string(),
-                &format!("CL{fid:05}"),
+                &format!("CL{}{fid:05}", self.g.lay.id_prefix),
                 &name,
                 &providers,
                 &wkt::write(&geom),
@@ -399,7 +403,7 @@ impl Generator<'_> {
     pub fn hazard_site(&mut self, r: &mut Rng, leaf: Leaf, urban: bool) -> std::io::Result<()> {
         let g = self.g;
         let s = leaf.size() as f64;
-        let side_m = 1000.0 * s * (g.dlat * KM_PER_DEG_LAT).min(g.dlon * KM_PER_DEG_LON);
+        let side_m = 1000.0 * s * (g.dlat * g.lay.km_lat).min(g.dlon * g.lay.km_lon);
         let mut u = r.unit();
         let mut pick = HAZARD_KINDS[HAZARD_KINDS.len() - 1];
         for k in HAZARD_KINDS {
@@ -451,7 +455,7 @@ impl Generator<'_> {
         let fid = self.hazards.rows + 1;
         self.hazards.write(&[
             &fid.to_string(),
-            &format!("HZ{fid:05}"),
+            &format!("HZ{}{fid:05}", self.g.lay.id_prefix),
             &name,
             kind,
             &wkt::write(&geom),
@@ -468,7 +472,7 @@ impl Generator<'_> {
                 let mut r = Rng(hash(self.seed, TAG_LIBRARY, -1, i as i64, 0));
                 let (lon, lat) = self.inner_point(&mut r, leaf);
                 rows.push(LibraryRow {
-                    name: format!("{} Central Library", COUNTIES[i].name),
+                    name: format!("{} Central Library", self.g.lay.counties[i].name),
                     branch_type: "central",
                     lon,
                     lat,
@@ -482,7 +486,7 @@ impl Generator<'_> {
             let fid = out.rows + 1;
             out.write(&[
                 &fid.to_string(),
-                &format!("LB{fid:05}"),
+                &format!("LB{}{fid:05}", self.g.lay.id_prefix),
                 &row.name,
                 row.branch_type,
                 &wkt::write(&geom),
@@ -496,7 +500,7 @@ impl Generator<'_> {
     pub fn spawn(&mut self, leaf: Leaf, urban: bool) -> std::io::Result<()> {
         let g = self.g;
         let s = leaf.size() as f64;
-        let block_m = s * g.dlat * KM_PER_DEG_LAT * 1000.0;
+        let block_m = s * g.dlat * g.lay.km_lat * 1000.0;
         let mut r = Rng(hash(self.seed, TAG_PARK, leaf.level as i64, leaf.x, leaf.y));
         if r.unit() < 1.0 / 65.0 {
             let (cx, cy) = (
@@ -569,10 +573,13 @@ impl Generator<'_> {
 
     pub fn write_park(&mut self, name: &str, geom: Geometry) -> std::io::Result<()> {
         self.extent("parks", &geom);
+        let mut n = 0;
+        geom.for_each_xy(&mut |_, _| n += 1);
+        self.stats.max_park_vertices = self.stats.max_park_vertices.max(n);
         let fid = self.parks.rows + 1;
         self.parks.write(&[
             &fid.to_string(),
-            &format!("PK{fid:05}"),
+            &format!("PK{}{fid:05}", self.g.lay.id_prefix),
             name,
             &wkt::write(&geom),
         ])
@@ -589,7 +596,7 @@ impl Generator<'_> {
         let no_activity = r.unit() < 0.03;
         self.rec.write(&[
             &fid.to_string(),
-            &format!("RS{fid:05}"),
+            &format!("RS{}{fid:05}", self.g.lay.id_prefix),
             if no_name { "" } else { &name },
             if no_activity { "" } else { activity },
             &wkt::write(&geom),
@@ -633,7 +640,11 @@ impl Generator<'_> {
         let fid = self.fitness.rows + 1;
         // Odd multiplier: a bijection of 0..10^6, so licence numbers are
         // unique and look unordered.
-        let licence = format!("FL-{:06}", (fid * 7919 + 104_729) % 1_000_000);
+        let licence = format!(
+            "FL-{}{:06}",
+            self.g.lay.id_prefix,
+            (fid * 7919 + 104_729) % 1_000_000
+        );
         let (lon, lat, text) = match place {
             Some((lon, lat)) => {
                 let geom = Geometry::point(q6(lon), q6(lat));
@@ -654,36 +665,46 @@ impl Generator<'_> {
     }
 
     /// The three parks every analysis should meet: a long coastal forest
-    /// with tens of thousands of vertices, one across a county line and one
-    /// just across the state line.
+    /// with tens of thousands of vertices (in the national country up to
+    /// a few hundred thousand, and inland in states without a coast), one
+    /// across a county line and one just across the state line, as the
+    /// layout asks.
     pub fn special_parks(&mut self) -> std::io::Result<()> {
         let g = self.g;
+        let lay = g.lay;
         let mut r = Rng(hash(self.seed, TAG_SPECIAL, 0, 0, 0));
         // The forest: between two ragged lines that follow the coast 1.5
         // coarse cells inland; both are graphs over latitude, one always west
         // of the other, so the ring is simple.
-        let cell_lon = FINE as f64 * g.dlon;
-        let k = 1 << 14;
-        let west = ragged(&mut r, k, 0.0, 0.025);
-        let east = ragged(&mut r, k, -0.025, 0.025);
-        let (lat_a, lat_b) = FOREST_LATS;
-        let mut ring = Vec::with_capacity(4 * (k + 2));
-        let inland = |lat: f64| coast_lon(lat) + 1.5 * cell_lon + 0.01;
-        for (j, e) in east.iter().enumerate() {
-            let lat = lat_a + (lat_b - lat_a) * j as f64 / k as f64;
-            ring.extend([q7(inland(lat) + 0.06 + e), q7(lat)]);
+        if let Some(((lat_a, lat_b), k)) = lay.forest {
+            let cell_lon = FINE as f64 * g.dlon;
+            let west = ragged(&mut r, k, 0.0, 0.025);
+            let east = ragged(&mut r, k, -0.025, 0.025);
+            let mut ring = Vec::with_capacity(4 * (k + 2));
+            let middle = lay.lon_west + 0.3 * (lay.lon_east - lay.lon_west);
+            let inland = |lat: f64| match lay.land {
+                Land::EastOfCoast => lay.coast_lon(lat) + 1.5 * cell_lon + 0.01,
+                Land::WestOfCoast => lay.coast_lon(lat) - 1.5 * cell_lon - 0.1,
+                Land::Everywhere | Land::IslandOnly => middle,
+            };
+            for (j, e) in east.iter().enumerate() {
+                let lat = lat_a + (lat_b - lat_a) * j as f64 / k as f64;
+                ring.extend([q7(inland(lat) + 0.06 + e), q7(lat)]);
+            }
+            for (j, w) in west.iter().enumerate().rev() {
+                let lat = lat_a + (lat_b - lat_a) * j as f64 / k as f64;
+                ring.extend([q7(inland(lat) + w), q7(lat)]);
+            }
+            close(&mut ring);
+            let name = format!("{} Coast Forest", r.pick(&WORDS_A));
+            self.write_park(&name, polygon(vec![ring]))?;
         }
-        for (j, w) in west.iter().enumerate().rev() {
-            let lat = lat_a + (lat_b - lat_a) * j as f64 / k as f64;
-            ring.extend([q7(inland(lat) + w), q7(lat)]);
-        }
-        close(&mut ring);
-        let name = format!("{} Coast Forest", r.pick(&WORDS_A));
-        self.write_park(&name, polygon(vec![ring]))?;
+        let Some((mid, line)) = lay.special_parks else {
+            return Ok(());
+        };
 
         // Across a county line: centred on the county boundary corner
         // nearest the middle of the state.
-        let mid = (-130.95, 38.5);
         let mut best: Option<(f64, [f64; 2])> = None;
         for side in self.county_sides.iter().flatten() {
             if side.other == 0 {
@@ -702,7 +723,7 @@ impl Generator<'_> {
         }
 
         // Just across the state line, outside every county.
-        let (lon, lat) = offset(LON_EAST, 38.6, 1500.0, 0.0);
+        let (lon, lat) = offset(line.0, line.1, 1500.0, 0.0);
         let name = format!("{} {} Park", r.pick(&WORDS_A), r.pick(&WORDS_B));
         let geom = polygon(vec![star(&mut r, lon, lat, 700.0, 28)]);
         self.write_park(&name, geom)

@@ -2,11 +2,9 @@
 //! sides, and the nodes above and below the coarse cells that tracts use.
 
 use crate::{
-    layout::{
-        coast_lon, density, in_island, nearest_core, nearest_county, KM_PER_DEG_LAT,
-        KM_PER_DEG_LON, LAT_NORTH, LAT_SOUTH, LON_EAST, LON_WEST,
-    },
-    random::{hash, mix, q7, signed, TAG_CORNER, TAG_SIDE},
+    layout::Layout,
+    random::{hash, mix, q7, signed, unit, Rng, TAG_CORNER, TAG_HEAVY, TAG_SIDE},
+    shapes::ragged,
 };
 
 /// Levels of refinement below a coarse (rural) cell: an urban block can be
@@ -48,7 +46,8 @@ pub fn level_offset(l: u32) -> u32 {
 
 /// Coarse cells over the box: which county each belongs to (0 = sea) and
 /// how each is refined into blocks.
-pub struct Grid {
+pub struct Grid<'a> {
+    pub lay: &'a Layout,
     pub seed: u64,
     pub nx: i64,
     pub ny: i64,
@@ -62,29 +61,30 @@ pub struct Grid {
     pub refine: Vec<u128>,
 }
 
-impl Grid {
-    pub fn new(seed: u64, nx: i64, ny: i64) -> Grid {
+impl<'a> Grid<'a> {
+    pub fn new(lay: &'a Layout, seed: u64, nx: i64, ny: i64) -> Grid<'a> {
         let (w, h) = (nx * FINE, ny * FINE);
         let mut g = Grid {
+            lay,
             seed,
             nx,
             ny,
             w,
             h,
-            dlon: (LON_EAST - LON_WEST) / w as f64,
-            dlat: (LAT_NORTH - LAT_SOUTH) / h as f64,
+            dlon: (lay.lon_east - lay.lon_west) / w as f64,
+            dlat: (lay.lat_north - lay.lat_south) / h as f64,
             county: vec![0; (nx * ny) as usize],
             refine: vec![0; (nx * ny) as usize],
         };
         for cy in 0..ny {
             for cx in 0..nx {
                 let (lon, lat) = g.lonlat((cx * FINE) as f64 + 8.0, (cy * FINE) as f64 + 8.0);
-                let land = cx >= 1 && (lon > coast_lon(lat) || in_island(lon, lat));
+                let land = cx >= 1 && lay.is_land(lon, lat);
                 if !land {
                     continue;
                 }
                 let i = (cy * nx + cx) as usize;
-                g.county[i] = 1 + nearest_county(lon, lat) as u8;
+                g.county[i] = 1 + lay.nearest_county(lon, lat) as u8;
                 g.refine[i] = g.mask(cx, cy, 0, 0, 0);
             }
         }
@@ -104,7 +104,7 @@ impl Grid {
             (cx * FINE + lx * size) as f64 + half,
             (cy * FINE + ly * size) as f64 + half,
         );
-        if density(lon, lat) <= 2.0 * 4f64.powi(level as i32) {
+        if self.lay.density(lon, lat) <= 2.0 * 4f64.powi(level as i32) {
             return 0;
         }
         let bit = level_offset(level) + (ly as u32) * (1 << level) + lx as u32;
@@ -117,7 +117,10 @@ impl Grid {
 
     /// Longitude and latitude of a point in (fractional) lattice units.
     pub fn lonlat(&self, fx: f64, fy: f64) -> (f64, f64) {
-        (LON_WEST + fx * self.dlon, LAT_SOUTH + fy * self.dlat)
+        (
+            self.lay.lon_west + fx * self.dlon,
+            self.lay.lat_south + fy * self.dlat,
+        )
     }
 
     pub fn cell_index(&self, fx: i64, fy: i64) -> Option<usize> {
@@ -169,7 +172,7 @@ impl Grid {
     pub fn urban_core(&self, leaf: Leaf) -> Option<usize> {
         (leaf.level >= URBAN_LEVEL).then(|| {
             let (lon, lat) = self.leaf_center(leaf);
-            nearest_core(lon, lat)
+            self.lay.nearest_core(lon, lat)
         })
     }
 
@@ -222,10 +225,17 @@ impl Grid {
         let len = (b.0 - a.0) + (b.1 - a.1);
         let r = hash(self.seed, TAG_SIDE, a.0 * 2 + horizontal as i64, a.1, len);
         let c = [signed(r), signed(mix(r)), signed(mix(mix(r)))];
-        let mut out = Vec::with_capacity(SIDE_SEGMENTS + 1);
+        let segments = self.segments(a, horizontal, len, on_box);
+        // A heavy side also carries small ragged detail (at most 2% of the
+        // side), still a graph over the chord, so the side stays simple.
+        let detail = (segments > SIDE_SEGMENTS).then(|| {
+            let mut rr = Rng(mix(r ^ TAG_HEAVY));
+            ragged(&mut rr, segments, -0.02, 0.02)
+        });
+        let mut out = Vec::with_capacity(segments + 1);
         out.push(self.vertex(ax, ay));
-        for k in 1..SIDE_SEGMENTS {
-            let t = k as f64 / SIDE_SEGMENTS as f64;
+        for k in 1..segments {
+            let t = k as f64 / segments as f64;
             let u = 2.0 * t - 1.0;
             // A smooth bump, zero at both ends, at most 1 in size.
             let f = if on_box {
@@ -234,7 +244,10 @@ impl Grid {
                 4.0 * t * (1.0 - t) * (c[0] + c[1] * u + c[2] * (u * u - 1.0 / 3.0)) / (8.0 / 3.0)
             };
             let (dx, dy) = (bx - ax, by - ay);
-            let off = SIDE_MEANDER * f;
+            let mut off = SIDE_MEANDER * f;
+            if let Some(d) = &detail {
+                off += 4.0 * t * (1.0 - t) * d[k];
+            }
             out.push(self.vertex(ax + t * dx - off * dy, ay + t * dy + off * dx));
         }
         out.push(self.vertex(bx, by));
@@ -242,6 +255,21 @@ impl Grid {
             out.reverse();
         }
         out
+    }
+
+    /// Segments of the atomic side from lattice corner `a` (the smaller
+    /// end) of length `len`: SIDE_SEGMENTS, or for a full coarse side
+    /// chosen with the layout's `heavy_sides` chance 512, 1024 or 2048.
+    pub fn segments(&self, a: Pt, horizontal: bool, len: i64, on_box: bool) -> usize {
+        if self.lay.heavy_sides <= 0.0 || on_box || len != FINE {
+            return SIDE_SEGMENTS;
+        }
+        let h = hash(self.seed, TAG_HEAVY, a.0 * 2 + horizontal as i64, a.1, len);
+        if unit(h) < self.lay.heavy_sides {
+            512 << (mix(h) % 3)
+        } else {
+            SIDE_SEGMENTS
+        }
     }
 
     /// The atomic sides of the side from `p` to `q` at `level`: a side is
@@ -314,16 +342,17 @@ impl Grid {
 
 /// The grid whose block count is nearest `target`: the coarse cell size is
 /// scaled by the square root of the miss a few times.
-pub fn calibrate(seed: u64, target: usize) -> Grid {
-    let width_km = (LON_EAST - LON_WEST) * KM_PER_DEG_LON;
-    let height_km = (LAT_NORTH - LAT_SOUTH) * KM_PER_DEG_LAT;
-    // First guess: about 3 blocks per coarse cell over 55,000 km^2 of land.
-    let mut cell_km = (165_000.0 / target as f64).sqrt();
-    let mut best: Option<(usize, Grid)> = None;
+pub fn calibrate(lay: &Layout, seed: u64, target: usize) -> Grid<'_> {
+    let width_km = (lay.lon_east - lay.lon_west) * lay.km_lon;
+    let height_km = (lay.lat_north - lay.lat_south) * lay.km_lat;
+    // First guess: about 3 blocks per coarse cell over the land (55,000
+    // km^2 in the demo).
+    let mut cell_km = (3.0 * lay.land_km2 / target as f64).sqrt();
+    let mut best: Option<(usize, Grid<'_>)> = None;
     for _ in 0..5 {
         let nx = ((width_km / cell_km).round() as i64).max(8);
         let ny = ((height_km / cell_km).round() as i64).max(8);
-        let g = Grid::new(seed, nx, ny);
+        let g = Grid::new(lay, seed, nx, ny);
         let n = g.count_leaves();
         let miss = n.abs_diff(target);
         cell_km *= (n as f64 / target as f64).sqrt();
@@ -375,7 +404,7 @@ impl Node {
     }
 }
 
-impl Grid {
+impl Grid<'_> {
     /// Whether the node is split in the block quadtree (always above the
     /// coarse cells).
     pub fn node_split(&self, n: Node) -> bool {

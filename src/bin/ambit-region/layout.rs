@@ -1,5 +1,6 @@
-//! The fixed layout of the demo state (all invented): its box, counties,
-//! urban cores, lakes, island and coast.
+//! Layouts of invented states: the fixed demo state (its box, counties,
+//! urban cores, lakes, island and coast, as constants) and [`Layout`], the
+//! same description as data, which the national country builds per state.
 
 /// The state's bounding box, degrees. Its west part is ocean.
 pub const LON_WEST: f64 = -132.5;
@@ -117,75 +118,215 @@ pub const ISLAND: (f64, f64, f64, f64) = (-132.36, 38.3, 0.11, 0.08);
 /// latitudes.
 pub const FOREST_LATS: (f64, f64) = (37.5, 38.15);
 
-/// Longitude of the invented coastline at latitude `lat` (land lies east):
-/// smooth steps between knots plus a small ripple.
-pub fn coast_lon(lat: f64) -> f64 {
-    pub const KNOTS: [(f64, f64); 8] = [
-        (37.4, -132.15),
-        (37.7, -132.2),
-        (38.0, -132.12),
-        (38.3, -132.0),
-        (38.6, -132.12),
-        (38.9, -132.17),
-        (39.2, -132.05),
-        (39.6, -132.2),
-    ];
-    let ripple = 0.012 * ((lat - LAT_SOUTH) * 31.0).sin() + 0.02 * ((lat - LAT_SOUTH) * 9.0).sin();
-    for w in KNOTS.windows(2) {
-        let ((y0, x0), (y1, x1)) = (w[0], w[1]);
-        if lat <= y1 {
-            let t = ((lat - y0) / (y1 - y0)).clamp(0.0, 1.0);
-            let s = t * t * (3.0 - 2.0 * t);
-            return x0 + (x1 - x0) * s + ripple;
+/// The knots of the demo state's coastline: (latitude, longitude).
+const DEMO_COAST: [(f64, f64); 8] = [
+    (37.4, -132.15),
+    (37.7, -132.2),
+    (38.0, -132.12),
+    (38.3, -132.0),
+    (38.6, -132.12),
+    (38.9, -132.17),
+    (39.2, -132.05),
+    (39.6, -132.2),
+];
+
+/// A county of a layout: code, name and the seed point of its region.
+#[derive(Clone, Debug)]
+pub struct County {
+    /// Census-style county code: odd numbers, 3 digits.
+    pub code: String,
+    pub name: String,
+    pub lon: f64,
+    pub lat: f64,
+}
+
+/// An urban core: a Gaussian bump of block density.
+#[derive(Clone, Debug)]
+pub struct Core {
+    pub name: String,
+    pub lon: f64,
+    pub lat: f64,
+    /// Blocks per unit area at the centre, relative to the rural density.
+    pub peak: f64,
+    /// Gaussian radius of the density bump, km.
+    pub sigma_km: f64,
+}
+
+/// Which side of the coastline is land.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Land {
+    /// Land east of the coastline (a west coast).
+    EastOfCoast,
+    /// Land west of the coastline (an east coast).
+    WestOfCoast,
+    /// The whole box is land (no coast).
+    Everywhere,
+    /// Only the island is land.
+    IslandOnly,
+}
+
+/// Everything that places one invented state: its box, code, counties,
+/// urban cores, lakes, island, coast and special features. The demo state
+/// is [`Layout::demo`]; the national country makes one per state.
+#[derive(Clone, Debug)]
+pub struct Layout {
+    /// The two-digit state code.
+    pub state: String,
+    pub lon_west: f64,
+    pub lon_east: f64,
+    pub lat_south: f64,
+    pub lat_north: f64,
+    /// Kilometres per degree of latitude and of longitude in the state
+    /// (spherical, for sizing invented features only).
+    pub km_lat: f64,
+    pub km_lon: f64,
+    /// Land area of the state, km^2, for the first guess of the cell size.
+    pub land_km2: f64,
+    pub counties: Vec<County>,
+    pub cores: Vec<Core>,
+    pub lakes: Vec<(f64, f64)>,
+    /// Centre and semi-axes, degrees.
+    pub island: Option<(f64, f64, f64, f64)>,
+    pub land: Land,
+    /// Coastline knots: (latitude, longitude), south to north.
+    pub coast: Vec<(f64, f64)>,
+    /// The large forest park: its latitudes and its points per side (the
+    /// ring has about twice as many vertices).
+    pub forest: Option<((f64, f64), usize)>,
+    /// The parks across a county line (near the first point) and across
+    /// the state line (1.5 km east of the second).
+    pub special_parks: Option<((f64, f64), (f64, f64))>,
+    /// No parks and no recreation facilities (a remote island: every block
+    /// is far from any such feature).
+    pub remote: bool,
+    /// Chance that a full coarse side is drawn with 512-2048 segments
+    /// (a boundary along a river or a ridge): rural blocks of thousands of
+    /// vertices. 0 in the demo.
+    pub heavy_sides: f64,
+    /// Prefix of the text identifiers (park_id, site_code, ...) so that
+    /// they stay unique across states; empty in the demo.
+    pub id_prefix: String,
+}
+
+impl Layout {
+    /// The demo state: the constants above.
+    pub fn demo() -> Layout {
+        Layout {
+            state: STATE.to_string(),
+            lon_west: LON_WEST,
+            lon_east: LON_EAST,
+            lat_south: LAT_SOUTH,
+            lat_north: LAT_NORTH,
+            km_lat: KM_PER_DEG_LAT,
+            km_lon: KM_PER_DEG_LON,
+            land_km2: 55_000.0,
+            counties: COUNTIES
+                .iter()
+                .map(|c| County {
+                    code: c.code.to_string(),
+                    name: c.name.to_string(),
+                    lon: c.lon,
+                    lat: c.lat,
+                })
+                .collect(),
+            cores: CORES
+                .iter()
+                .map(|c| Core {
+                    name: c.name.to_string(),
+                    lon: c.lon,
+                    lat: c.lat,
+                    peak: c.peak,
+                    sigma_km: c.sigma_km,
+                })
+                .collect(),
+            lakes: LAKES.to_vec(),
+            island: Some(ISLAND),
+            land: Land::EastOfCoast,
+            coast: DEMO_COAST.to_vec(),
+            forest: Some((FOREST_LATS, 1 << 14)),
+            special_parks: Some(((-130.95, 38.5), (LON_EAST, 38.6))),
+            remote: false,
+            heavy_sides: 0.0,
+            id_prefix: String::new(),
         }
     }
-    KNOTS[KNOTS.len() - 1].1 + ripple
-}
 
-pub fn in_island(lon: f64, lat: f64) -> bool {
-    let (cx, cy, a, b) = ISLAND;
-    let (u, v) = ((lon - cx) / a, (lat - cy) / b);
-    u * u + v * v <= 1.0
-}
+    /// Longitude of the coastline at latitude `lat`: smooth steps between
+    /// knots plus a small ripple.
+    pub fn coast_lon(&self, lat: f64) -> f64 {
+        let knots = &self.coast;
+        let south = self.lat_south;
+        let ripple = 0.012 * ((lat - south) * 31.0).sin() + 0.02 * ((lat - south) * 9.0).sin();
+        for w in knots.windows(2) {
+            let ((y0, x0), (y1, x1)) = (w[0], w[1]);
+            if lat <= y1 {
+                let t = ((lat - y0) / (y1 - y0)).clamp(0.0, 1.0);
+                let s = t * t * (3.0 - 2.0 * t);
+                return x0 + (x1 - x0) * s + ripple;
+            }
+        }
+        knots[knots.len() - 1].1 + ripple
+    }
 
-/// Relative block density: 1 in the country, up to `peak` + 1 in a core.
-pub fn density(lon: f64, lat: f64) -> f64 {
-    1.0 + CORES
-        .iter()
-        .map(|c| {
-            let dx = (lon - c.lon) * KM_PER_DEG_LON;
-            let dy = (lat - c.lat) * KM_PER_DEG_LAT;
-            c.peak * (-(dx * dx + dy * dy) / (c.sigma_km * c.sigma_km)).exp()
+    pub fn in_island(&self, lon: f64, lat: f64) -> bool {
+        self.island.is_some_and(|(cx, cy, a, b)| {
+            let (u, v) = ((lon - cx) / a, (lat - cy) / b);
+            u * u + v * v <= 1.0
         })
-        .sum::<f64>()
-}
-
-pub fn nearest_core(lon: f64, lat: f64) -> usize {
-    let mut best = (f64::INFINITY, 0);
-    for (i, c) in CORES.iter().enumerate() {
-        let dx = (lon - c.lon) * KM_PER_DEG_LON;
-        let dy = (lat - c.lat) * KM_PER_DEG_LAT;
-        let d = (dx * dx + dy * dy) / (c.sigma_km * c.sigma_km);
-        if d < best.0 {
-            best = (d, i);
-        }
     }
-    best.1
-}
 
-/// The county whose seed is nearest, measured on a gently warped plane so
-/// that county lines wander.
-pub fn nearest_county(lon: f64, lat: f64) -> usize {
-    let wx = lon + 0.14 * (lat * 7.1 + 0.4).sin() + 0.04 * (lat * 23.3).sin();
-    let wy = lat + 0.12 * (lon * 6.3 + 1.3).sin() + 0.035 * (lon * 19.9).sin();
-    let mut best = (f64::INFINITY, 0);
-    for (i, c) in COUNTIES.iter().enumerate() {
-        let dx = (wx - c.lon) * KM_PER_DEG_LON;
-        let dy = (wy - c.lat) * KM_PER_DEG_LAT;
-        let d = dx * dx + dy * dy;
-        if d < best.0 {
-            best = (d, i);
-        }
+    /// Whether (lon, lat) is land (the caller keeps the first column of
+    /// coarse cells as sea).
+    pub fn is_land(&self, lon: f64, lat: f64) -> bool {
+        let main = match self.land {
+            Land::EastOfCoast => lon > self.coast_lon(lat),
+            Land::WestOfCoast => lon < self.coast_lon(lat),
+            Land::Everywhere => true,
+            Land::IslandOnly => false,
+        };
+        main || self.in_island(lon, lat)
     }
-    best.1
+
+    /// Relative block density: 1 in the country, up to `peak` + 1 in a core.
+    pub fn density(&self, lon: f64, lat: f64) -> f64 {
+        1.0 + self
+            .cores
+            .iter()
+            .map(|c| {
+                let dx = (lon - c.lon) * self.km_lon;
+                let dy = (lat - c.lat) * self.km_lat;
+                c.peak * (-(dx * dx + dy * dy) / (c.sigma_km * c.sigma_km)).exp()
+            })
+            .sum::<f64>()
+    }
+
+    pub fn nearest_core(&self, lon: f64, lat: f64) -> usize {
+        let mut best = (f64::INFINITY, 0);
+        for (i, c) in self.cores.iter().enumerate() {
+            let dx = (lon - c.lon) * self.km_lon;
+            let dy = (lat - c.lat) * self.km_lat;
+            let d = (dx * dx + dy * dy) / (c.sigma_km * c.sigma_km);
+            if d < best.0 {
+                best = (d, i);
+            }
+        }
+        best.1
+    }
+
+    /// The county whose seed is nearest, measured on a gently warped plane
+    /// so that county lines wander.
+    pub fn nearest_county(&self, lon: f64, lat: f64) -> usize {
+        let wx = lon + 0.14 * (lat * 7.1 + 0.4).sin() + 0.04 * (lat * 23.3).sin();
+        let wy = lat + 0.12 * (lon * 6.3 + 1.3).sin() + 0.035 * (lon * 19.9).sin();
+        let mut best = (f64::INFINITY, 0);
+        for (i, c) in self.counties.iter().enumerate() {
+            let dx = (wx - c.lon) * self.km_lon;
+            let dy = (wy - c.lat) * self.km_lat;
+            let d = dx * dx + dy * dy;
+            if d < best.0 {
+                best = (d, i);
+            }
+        }
+        best.1
+    }
 }

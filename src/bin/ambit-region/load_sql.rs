@@ -174,9 +174,10 @@ pub fn load_sql(
     let _ = writeln!(
         w,
         "-- Builds a GeoPackage (OGC 12-128) of the invented region made by ambit-region\n\
-         -- (--blocks {} --seed {}). Run in the sqlite3 shell with ambit loaded:\n\
+         -- ({}--blocks {} --seed {}). Run in the sqlite3 shell with ambit loaded:\n\
          --   sqlite3 OUT.gpkg '.load target/release/libambit' '.read {}'\n\
          -- All data are invented; no real place is described.\n",
+        if args.national { "--national " } else { "" },
         args.blocks,
         args.seed,
         dir.join("load.sql").display()
@@ -238,11 +239,20 @@ pub fn load_sql(
             max_x: LON_EAST,
             max_y: LAT_NORTH,
         });
-        let description = format!(
-            "Invented data, not a real place: {}. An imaginary state (code 99) over the \
-             open Pacific, made by ambit-region --blocks {} --seed {}.",
-            t.about, args.blocks, args.seed
-        );
+        let description = if args.national {
+            format!(
+                "Invented data, not a real place: {}. An imaginary country of 54 states (codes \
+                 01 to 54, our own numbering) over the open North Pacific, made by ambit-region \
+                 --national --blocks {} --seed {}.",
+                t.about, args.blocks, args.seed
+            )
+        } else {
+            format!(
+                "Invented data, not a real place: {}. An imaginary state (code 99) over the \
+                 open Pacific, made by ambit-region --blocks {} --seed {}.",
+                t.about, args.blocks, args.seed
+            )
+        };
         let _ = writeln!(
             w,
             "INSERT INTO gpkg_contents VALUES ({}, 'features', {}, {}, '2000-01-01T00:00:00.000Z', {}, {}, {}, {}, 4326);",

@@ -93,20 +93,15 @@ mod grid;
 mod layout;
 mod load_sql;
 mod names;
+mod national;
 mod output;
 mod random;
+mod region;
 mod shapes;
 
-use ambit::blob::wkt;
-use ambit::geometry::Shape;
 use args::{parse_args, Args, USAGE};
-use generator::{Generator, Stats};
-use grid::{calibrate, URBAN_LEVEL};
-use layout::{CORES, COUNTIES, LAKES, LAT_SOUTH, LON_WEST, STATE};
-use load_sql::{load_sql, TABLES};
-use output::Csv;
-use shapes::{multipolygon, trace};
-use std::collections::HashMap;
+use layout::Layout;
+use load_sql::load_sql;
 use std::io::Write;
 use std::process::ExitCode;
 use std::time::Instant;
@@ -120,82 +115,13 @@ fn run(args: &Args) -> Result<(), String> {
         .out
         .canonicalize()
         .map_err(|e| format!("{}: {e}", args.out.display()))?;
-    let grid = calibrate(args.seed, args.blocks);
-    let lakes = LAKES
-        .iter()
-        .filter_map(|&(lon, lat)| {
-            let fx = ((lon - LON_WEST) / grid.dlon) as i64;
-            let fy = ((lat - LAT_SOUTH) / grid.dlat) as i64;
-            grid.leaf_at(fx, fy).filter(|l| l.level < URBAN_LEVEL)
-        })
-        .collect();
-    let csv = |t: usize| Csv::create(&dir, &format!("{}.csv", TABLES[t].name), TABLES[t].csv);
-    let mut gen = Generator {
-        g: &grid,
-        seed: args.seed,
-        lakes,
-        blocks: csv(1).map_err(io)?,
-        parks: csv(2).map_err(io)?,
-        rec: csv(3).map_err(io)?,
-        fitness: csv(4).map_err(io)?,
-        groceries: csv(6).map_err(io)?,
-        clinics: csv(7).map_err(io)?,
-        hazards: csv(8).map_err(io)?,
-        libraries: Vec::new(),
-        densest: vec![None; COUNTIES.len()],
-        county_sides: (0..COUNTIES.len()).map(|_| Vec::new()).collect(),
-        urban_sides: (0..CORES.len()).map(|_| Vec::new()).collect(),
-        extents: HashMap::new(),
-        stats: Stats::default(),
-    };
-    gen.run_blocks().map_err(io)?;
-    gen.special_parks().map_err(io)?;
-
-    let mut counties = csv(0).map_err(io)?;
-    let mut parts = Vec::new();
-    for (i, c) in COUNTIES.iter().enumerate() {
-        let geom = multipolygon(trace(&gen.county_sides[i]));
-        if let Shape::MultiPolygon(p) = &geom.shape {
-            parts.push(p.len());
-        }
-        gen.extent("counties", &geom);
-        counties
-            .write(&[
-                &(i + 1).to_string(),
-                &format!("{STATE}{}", c.code),
-                c.name,
-                &wkt::write(&geom),
-            ])
-            .map_err(io)?;
+    if args.national {
+        return national::run(args, &dir, started);
     }
-    let mut urban = csv(5).map_err(io)?;
-    for (i, c) in CORES.iter().enumerate() {
-        if gen.urban_sides[i].is_empty() {
-            continue;
-        }
-        let geom = multipolygon(trace(&gen.urban_sides[i]));
-        gen.extent("urban_areas", &geom);
-        let fid = (urban.rows + 1).to_string();
-        urban
-            .write(&[&fid, c.name, &wkt::write(&geom)])
-            .map_err(io)?;
-    }
-    let mut libraries = csv(9).map_err(io)?;
-    gen.write_libraries(&mut libraries).map_err(io)?;
-    let st = std::mem::take(&mut gen.stats);
-    let counts = [
-        ("counties", counties.finish().map_err(io)?),
-        ("blocks", gen.blocks.finish().map_err(io)?),
-        ("parks", gen.parks.finish().map_err(io)?),
-        ("rec_sites", gen.rec.finish().map_err(io)?),
-        ("fitness_list", gen.fitness.finish().map_err(io)?),
-        ("urban_areas", urban.finish().map_err(io)?),
-        ("groceries", gen.groceries.finish().map_err(io)?),
-        ("clinics", gen.clinics.finish().map_err(io)?),
-        ("hazard_sites", gen.hazards.finish().map_err(io)?),
-        ("libraries", libraries.finish().map_err(io)?),
-    ];
-    let sql = load_sql(&dir, args, &gen.extents)?;
+    let lay = Layout::demo();
+    let region = region::generate(&lay, args.seed, args.blocks, &dir).map_err(io)?;
+    let (counts, st, parts) = (&region.counts, &region.stats, &region.parts);
+    let sql = load_sql(&dir, args, &region.extents)?;
     std::fs::write(dir.join("load.sql"), sql).map_err(io)?;
 
     // The summary is informative: a closed stdout is no error.
@@ -224,7 +150,7 @@ fn run(args: &Args) -> Result<(), String> {
         out,
         "  parks: {} with a pond, {} in two pieces; fitness_list: {} repeat a rec_sites location, \
          {} without coordinates; coarse grid {} x {}",
-        st.parks_with_holes, st.multi_parks, st.duplicates, st.no_coordinates, grid.nx, grid.ny
+        st.parks_with_holes, st.multi_parks, st.duplicates, st.no_coordinates, region.nx, region.ny
     );
     let _ = writeln!(
         out,

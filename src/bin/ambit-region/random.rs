@@ -75,3 +75,9 @@ pub fn q7(v: f64) -> f64 {
 pub fn q6(v: f64) -> f64 {
     (v * 1e6).round() / 1e6
 }
+
+// Tags of the national country (never used by the demo state).
+/// Heavy sides: which full coarse sides have hundreds of segments.
+pub const TAG_HEAVY: u64 = 11;
+/// The national layout: states, counties, cores.
+pub const TAG_COUNTRY: u64 = 12;
