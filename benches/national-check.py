@@ -90,9 +90,11 @@ def main():
 
     # Blocks next to the three biggest parks (by blob size), found among
     # the blocks of the park's state (its park_id starts PKss-).
-    big = conn.execute(
-        "SELECT park_id, geom FROM parks ORDER BY length(geom) DESC LIMIT 3").fetchall()
-    for park_id, blob in big:
+    # (ids first: a sort that carries the blobs reads them over and over)
+    big = conn.execute("SELECT fid FROM parks ORDER BY length(geom) DESC LIMIT 3").fetchall()
+    for (park_fid,) in big:
+        park_id, blob = conn.execute(
+            "SELECT park_id, geom FROM parks WHERE fid = ?", (park_fid,)).fetchone()
         park = shapely.from_wkb(wkb(blob))
         state = park_id[2:4]
         rows = conn.execute(
