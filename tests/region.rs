@@ -1,4 +1,4 @@
-//! The invented region of `ambit-region` (src/bin/ambit-region.rs) and
+//! The invented region of `ambit-region` (src/bin/ambit-region/) and
 //! `demo-db/build-region`: the generator is deterministic, its blocks tile
 //! the land exactly (same vertices on both sides of every shared edge,
 //! areas that add up to the counties'), its GEOIDs follow the census-style
@@ -67,8 +67,25 @@ impl Drop for TempDir {
 }
 
 fn generate(blocks: usize, seed: u64, name: &str) -> TempDir {
+    run_generator(&[], blocks, seed, name, None)
+}
+
+/// Runs the generator with `extra` arguments, optionally on `threads`
+/// worker threads (RAYON_NUM_THREADS).
+fn run_generator(
+    extra: &[&str],
+    blocks: usize,
+    seed: u64,
+    name: &str,
+    threads: Option<usize>,
+) -> TempDir {
     let dir = TempDir::new(name);
-    let out = Command::new(GENERATOR)
+    let mut cmd = Command::new(GENERATOR);
+    if let Some(n) = threads {
+        cmd.env("RAYON_NUM_THREADS", n.to_string());
+    }
+    let out = cmd
+        .args(extra)
         .args(["--blocks", &blocks.to_string(), "--seed", &seed.to_string()])
         .arg("--out")
         .arg(&dir.0)
@@ -256,11 +273,30 @@ fn blocks_tile_the_counties_exactly() {
         blocks.len()
     );
 
+    assert_eq!(
+        check_tiling(&counties, &blocks, 41..=81),
+        1,
+        "one county has an island"
+    );
+}
+
+/// Checks that the blocks tile their counties exactly: every county and
+/// block ring is valid and simple, every block ring closed and
+/// counter-clockwise with a vertex count in `points`; block areas add up to
+/// their county's (relative 1e-9: the same surface cut in pieces, areas by
+/// ambit's geodesic area); every block edge off the county boundaries is
+/// shared once each way, and every county edge is a block edge. Returns the
+/// number of counties in more than one part.
+fn check_tiling(
+    counties: &[Vec<String>],
+    blocks: &[Vec<String>],
+    points: std::ops::RangeInclusive<usize>,
+) -> usize {
     // County areas and outer-boundary edges.
     let mut county_area: HashMap<String, f64> = HashMap::new();
     let mut boundary: HashSet<Edge> = HashSet::new();
     let mut multi = 0;
-    for c in &counties {
+    for c in counties {
         let g = wkt::parse(&c[3]).unwrap();
         validate(&g, 4326).unwrap();
         let Shape::MultiPolygon(parts) = &g.shape else {
@@ -279,13 +315,12 @@ fn blocks_tile_the_counties_exactly() {
         }
         county_area.insert(c[1].clone(), geometry_area(&g));
     }
-    assert_eq!(multi, 1, "one county has an island");
 
     // (a) every block ring is closed, has >= 4 points, is valid, simple and
     // counter-clockwise, with about 40 vertices.
     let mut block_area: HashMap<String, f64> = HashMap::new();
     let mut count: HashMap<Edge, u32> = HashMap::new();
-    for b in &blocks {
+    for b in blocks {
         let g = wkt::parse(&b[4]).unwrap();
         validate(&g, 4326).unwrap_or_else(|e| panic!("block {}: {e}", b[1]));
         let Shape::Polygon(r) = &g.shape else {
@@ -294,7 +329,7 @@ fn blocks_tile_the_counties_exactly() {
         assert_eq!(r.len(), 1, "block {} has holes", b[1]);
         let ring = &r[0];
         let n = ring.len() / 2;
-        assert!((41..=81).contains(&n), "block {} has {n} points", b[1]);
+        assert!(points.contains(&n), "block {} has {n} points", b[1]);
         assert_eq!(
             ring[..2],
             ring[ring.len() - 2..],
@@ -344,6 +379,7 @@ fn blocks_tile_the_counties_exactly() {
     for e in &boundary {
         assert!(count.contains_key(e), "county edge {e:?} is on no block");
     }
+    multi
 }
 
 #[test]
@@ -950,4 +986,204 @@ fn build_region_explains_a_missing_library() {
     let err = String::from_utf8_lossy(&run.stderr);
     assert!(err.contains("cargo build --release"), "{err}");
     assert!(!dir.0.join("x.gpkg").exists());
+}
+
+// ----------------------------------------------------------------------
+// The national country (--national)
+// ----------------------------------------------------------------------
+
+const BLOCK_HEADER: [&str; 5] = ["fid", "geoid", "population", "water", "wkt"];
+
+/// The extreme latitudes of a geometry.
+fn lat_range(g: &Geometry) -> (f64, f64) {
+    let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
+    g.for_each_xy(&mut |_, y| {
+        lo = lo.min(y);
+        hi = hi.max(y);
+    });
+    (lo, hi)
+}
+
+#[test]
+fn national_country_has_valid_states_counties_geoids_and_heavy_shapes() {
+    let dir = run_generator(&["--national"], 60_000, 2, "national", None);
+    let counties = table(&dir.0, "counties", &["fid", "geoid", "name", "wkt"]);
+    let blocks = table(&dir.0, "blocks", &BLOCK_HEADER);
+    let parks = table(&dir.0, "parks", &["fid", "park_id", "name", "wkt"]);
+    let rec = table(
+        &dir.0,
+        "rec_sites",
+        &["fid", "site_code", "site_name", "activity", "wkt"],
+    );
+    let fit = table(
+        &dir.0,
+        "fitness_list",
+        &[
+            "fid",
+            "license_no",
+            "business",
+            "category",
+            "lon",
+            "lat",
+            "wkt",
+        ],
+    );
+    assert!(
+        (54_000..=66_000).contains(&blocks.len()),
+        "{} blocks for a target of 60000",
+        blocks.len()
+    );
+
+    // States and counties: >= 50 states, about 3,100 counties (fewer at
+    // this size: a small state's county may get no block), GEOIDs
+    // state 2 + county 3 (odd), unique, fids from 1.
+    let mut county_ids = HashSet::new();
+    for (i, c) in counties.iter().enumerate() {
+        let id = &c[1];
+        assert!(
+            id.len() == 5 && id.bytes().all(|b| b.is_ascii_digit()),
+            "{id}"
+        );
+        assert!(id[2..].parse::<u32>().unwrap() % 2 == 1, "county code {id}");
+        assert!(county_ids.insert(id.clone()), "county {id} repeated");
+        assert_eq!(c[0], (i + 1).to_string(), "county fids count from 1");
+    }
+    let states: HashSet<&str> = county_ids.iter().map(|c| &c[..2]).collect();
+    assert!(states.len() >= 50, "{} states", states.len());
+    assert!(
+        (2500..=3300).contains(&counties.len()),
+        "{} counties",
+        counties.len()
+    );
+
+    // Block GEOIDs: 15 digits, unique, in a known county, tract
+    // NNNNSS with suffix 00-04, block group 1-9; fids from 1.
+    let mut seen = HashSet::new();
+    for (i, b) in blocks.iter().enumerate() {
+        let g = &b[1];
+        assert!(
+            g.len() == 15 && g.bytes().all(|c| c.is_ascii_digit()),
+            "{g}"
+        );
+        assert!(county_ids.contains(&g[..5]), "{g}: no such county");
+        assert!(seen.insert(g.clone()), "{g} repeated");
+        let basic: u32 = g[5..9].parse().unwrap();
+        let suffix: u32 = g[9..11].parse().unwrap();
+        assert!(basic >= 1 && suffix <= 4, "{g}: tract");
+        assert!(g.as_bytes()[11] != b'0', "{g}: block group 0");
+        assert_eq!(b[0], (i + 1).to_string(), "block fids count from 1");
+    }
+
+    // Every state tiles exactly (the states are apart, so the whole
+    // country is checked at once); rural blocks may have thousands of
+    // vertices.
+    check_tiling(&counties, &blocks, 41..=9000);
+    let most = blocks
+        .iter()
+        .map(|b| wkt::parse(&b[4]).unwrap().vertex_count())
+        .max()
+        .unwrap();
+    assert!(most >= 1000, "the largest block has {most} vertices");
+
+    // Parks of 100,000-400,000 vertices, valid and simple.
+    let mut heavy = 0;
+    for p in &parks {
+        let g = wkt::parse(&p[3]).unwrap();
+        let n = g.vertex_count();
+        assert!(n <= 400_000, "park {} has {n} vertices", p[1]);
+        if n >= 100_000 {
+            validate(&g, 4326).unwrap();
+            for r in rings(&g) {
+                assert!(ring_is_simple(r), "park {} crosses itself", p[1]);
+            }
+            heavy += 1;
+        }
+    }
+    assert!(heavy >= 3, "{heavy} parks of 100,000 vertices or more");
+
+    // Ids unique across states.
+    for (rows, col, t) in [
+        (&parks, 1, "parks"),
+        (&rec, 1, "rec_sites"),
+        (&fit, 1, "fitness_list"),
+    ] {
+        let mut ids = HashSet::new();
+        for (i, r) in rows.iter().enumerate() {
+            assert!(ids.insert(r[col].clone()), "{t}: {} repeated", r[col]);
+            assert_eq!(r[0], (i + 1).to_string(), "{t}: fids count from 1");
+        }
+    }
+
+    // Remote islands: every block of the states south of latitude 27 is
+    // more than 500 km from every park and facility. Any path between two
+    // parallels is at least as long as the meridian arc between them
+    // (common geometry, from memory), computed here with geographiclib-rs.
+    let mut remote_states = HashSet::new();
+    let mut remote_north = f64::NEG_INFINITY;
+    for b in &blocks {
+        let (_, hi) = lat_range(&wkt::parse(&b[4]).unwrap());
+        if hi < 27.0 {
+            remote_states.insert(b[1][..2].to_string());
+            remote_north = remote_north.max(hi);
+        }
+    }
+    assert!(remote_states.len() >= 3, "remote states {remote_states:?}");
+    let mut feature_south = f64::INFINITY;
+    for (rows, col) in [(&parks, 3), (&rec, 4), (&fit, 6)] {
+        for r in rows.iter().filter(|r| !r[col].is_empty()) {
+            feature_south = feature_south.min(lat_range(&wkt::parse(&r[col]).unwrap()).0);
+        }
+    }
+    let arc = geographiclib_rs::Geodesic::wgs84();
+    let gap: f64 = geographiclib_rs::InverseGeodesic::inverse(
+        &arc,
+        remote_north,
+        -140.0,
+        feature_south,
+        -140.0,
+    );
+    assert!(
+        gap > 500_000.0,
+        "remote blocks reach {remote_north}, features {feature_south}: {gap} m"
+    );
+
+    // Block (and so facility) density varies by more than two orders of
+    // magnitude between counties: blocks per km^2 of county.
+    let mut per_county: HashMap<&str, usize> = HashMap::new();
+    for b in &blocks {
+        *per_county.entry(&b[1][..5]).or_default() += 1;
+    }
+    let densities: Vec<f64> = counties
+        .iter()
+        .map(|c| per_county[c[1].as_str()] as f64 / geometry_area(&wkt::parse(&c[3]).unwrap()))
+        .collect();
+    let (lo, hi) = densities
+        .iter()
+        .fold((f64::INFINITY, 0f64), |(l, h), &d| (l.min(d), h.max(d)));
+    assert!(
+        hi / lo > 100.0,
+        "county block densities {lo} to {hi} per m2"
+    );
+}
+
+#[test]
+fn national_country_is_the_same_on_one_or_two_threads() {
+    let one = run_generator(&["--national"], 12_000, 4, "nat-one", Some(1));
+    let two = run_generator(&["--national"], 12_000, 4, "nat-two", Some(2));
+    let other = run_generator(
+        &["--blocks", "national", "--national"],
+        12_000,
+        5,
+        "nat-other",
+        Some(2),
+    );
+    for t in TABLES {
+        let file = format!("{t}.csv");
+        let x = std::fs::read(one.0.join(&file)).unwrap();
+        let y = std::fs::read(two.0.join(&file)).unwrap();
+        assert!(x == y, "{file} differs between one and two threads");
+    }
+    let x = std::fs::read(one.0.join("blocks.csv")).unwrap();
+    let z = std::fs::read(other.0.join("blocks.csv")).unwrap();
+    assert!(x != z, "seeds 4 and 5 gave the same national blocks");
 }
