@@ -8,9 +8,10 @@
 //! does, itself checked against an independent computation in
 //! tests/demo.rs; the README's printed table must be that table too.
 //!
-//! The wheel here holds the library built for this test run, so the check
-//! needs no cross toolchain; dist/build makes the same wheel from its
-//! glibc-2.17 build (README, "Install").
+//! The wheel and the R example use the library built for this test run, so
+//! the check needs no cross toolchain. To check dist/build's release file
+//! (glibc 2.17) instead, name its folder in AMBIT_INSTALL_LIBDIR:
+//! `AMBIT_INSTALL_LIBDIR=target/dist/linux-x86_64 cargo test --release --test install`.
 
 mod common;
 
@@ -19,6 +20,15 @@ use std::process::Command;
 
 fn root() -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+}
+
+/// The folder of the library under test: AMBIT_INSTALL_LIBDIR, or the
+/// folder of the library built for this run.
+fn library_dir() -> PathBuf {
+    match std::env::var_os("AMBIT_INSTALL_LIBDIR") {
+        Some(dir) => std::fs::canonicalize(root().join(dir)).expect("AMBIT_INSTALL_LIBDIR"),
+        None => common::library().parent().unwrap().to_path_buf(),
+    }
 }
 
 /// A fresh folder under target/tmp (not /tmp) for one test.
@@ -112,7 +122,7 @@ fn the_wheel_installs_and_the_readme_python_lines_print_the_shell_table() {
 
     let dir = work_dir("wheel");
     let version = env!("CARGO_PKG_VERSION");
-    let lib_dir = common::library().parent().unwrap().to_path_buf();
+    let lib_dir = library_dir();
     run(Command::new(common::SYSTEM_PYTHON)
         .arg(root().join("dist/make-wheel.py"))
         .args([version, "linux-x86_64"])
@@ -237,7 +247,7 @@ fn the_r_example_reads_the_shell_table_into_a_data_frame() {
     let printed = run(Command::new("Rscript")
         .current_dir(&dir)
         .arg(root().join("sql-examples/r/exercise-access.R"))
-        .arg(common::library())
+        .arg(library_dir().join("libambit.so"))
         .arg(&db)
         .arg(dir.join("county.csv")));
     assert!(printed.contains("Cinder Hill"), "{printed}");

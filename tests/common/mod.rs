@@ -186,9 +186,11 @@ pub fn python_check_in(python: &str, script: &str, more: &[&str]) -> String {
 /// The committed demo database (demo-db/README.md).
 pub const DEMO_DB: &str = "demo-db/demo-region.gpkg";
 
-/// A fresh folder for one example test, with a results/ folder in it.
+/// A fresh folder for one example test under target/tmp (never /tmp), with
+/// a results/ folder in it.
 pub fn example_dir(name: &str) -> PathBuf {
-    let dir = std::env::temp_dir().join(format!("ambit-example-{name}-{}", std::process::id()));
+    let dir = std::path::Path::new(env!("CARGO_TARGET_TMPDIR"))
+        .join(format!("ambit-example-{name}-{}", std::process::id()));
     let _ = std::fs::remove_dir_all(&dir);
     std::fs::create_dir_all(dir.join("results")).expect("results folder");
     dir
