@@ -50,7 +50,7 @@
 -- Run it on a copy of the demo database:
 --     cargo build --release && mkdir -p results \
 --       && cp demo-db/demo-region.gpkg results/care-access.gpkg \
---       && sqlite3 results/care-access.gpkg < sql-examples/care-access-2sfca.sql
+--       && LD_LIBRARY_PATH=$PWD/target/release sqlite3 results/care-access.gpkg < sql-examples/care-access-2sfca.sql
 --
 -- Inputs (tables of the GeoPackage): blocks (fid, geoid, population, geom),
 -- clinics (fid, clinic_id, name, providers, geom), counties (geoid, name,
@@ -92,9 +92,11 @@
 -- The demo database is invented data (a fictional state over open ocean).
 
 .bail on
-.load target/release/libambit
--- The counts the building steps return are not printed; the county table is.
-.output /dev/null
+-- ambit is found on the library search path (README, "Install").
+.load libambit
+-- The counts the building steps return go to a log in results/, not the
+-- screen; the county table is printed.
+.output results/care-access-2sfca.log
 
 -- 1. Parameters: every choice in one place, written into the results. ----
 DROP TABLE IF EXISTS care_parameters;

@@ -12,7 +12,7 @@
 -- Run it on a copy of the demo database (the README's first command):
 --     cargo build --release && mkdir -p results \
 --       && cp demo-db/demo-region.gpkg results/exercise-access.gpkg \
---       && sqlite3 results/exercise-access.gpkg < sql-examples/exercise-access.sql
+--       && LD_LIBRARY_PATH=$PWD/target/release sqlite3 results/exercise-access.gpkg < sql-examples/exercise-access.sql
 --
 -- Inputs (tables of the GeoPackage): blocks (geoid, population, geom),
 -- parks (geom), rec_sites and fitness_list (two facility lists to merge),
@@ -31,9 +31,11 @@
 -- The demo database is invented data (a fictional state over open ocean).
 
 .bail on
-.load target/release/libambit
--- The counts the building steps return are not printed; the county table is.
-.output /dev/null
+-- ambit is found on the library search path (README, "Install").
+.load libambit
+-- The counts the building steps return go to a log in results/, not the
+-- screen; the county table is printed.
+.output results/exercise-access.log
 
 -- 1. Parameters: every choice in one place, written into the results. ----
 DROP TABLE IF EXISTS build_parameters;

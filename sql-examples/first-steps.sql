@@ -1,7 +1,7 @@
 -- first-steps.sql: a first session with ambit in the stock sqlite3 shell.
 --
 -- Run from the project folder after `cargo build --release`:
---     sqlite3 < sql-examples/first-steps.sql
+--     LD_LIBRARY_PATH=$PWD/target/release sqlite3 < sql-examples/first-steps.sql
 --
 -- It reads three park geometries of an invented town (from WKT and from
 -- GeoJSON), stores them as GeoPackage blobs in an in-memory table, and shows
@@ -9,7 +9,8 @@
 -- All places and names here are invented; the invented region lies over open
 -- ocean so that no real place is described.
 
-.load target/release/libambit
+-- ambit is found on the library search path (README, "Install").
+.load libambit
 .mode box
 
 CREATE TABLE parks (

@@ -30,7 +30,7 @@
 -- Run it on a copy of the demo database:
 --     cargo build --release && mkdir -p results \
 --       && cp demo-db/demo-region.gpkg results/food-access.gpkg \
---       && sqlite3 results/food-access.gpkg < sql-examples/food-access.sql
+--       && LD_LIBRARY_PATH=$PWD/target/release sqlite3 results/food-access.gpkg < sql-examples/food-access.sql
 --
 -- Inputs (tables of the GeoPackage): blocks (fid, geoid, population,
 -- geom), groceries (kind, geom), urban_areas (geom), counties (geoid,
@@ -51,9 +51,11 @@
 -- The demo database is invented data (a fictional state over open ocean).
 
 .bail on
-.load target/release/libambit
--- The counts the building steps return are not printed; the tables are.
-.output /dev/null
+-- ambit is found on the library search path (README, "Install").
+.load libambit
+-- The counts the building steps return go to a log in results/, not the
+-- screen; the tables are printed.
+.output results/food-access.log
 
 -- 1. Parameters: every choice in one place, written into the results. ----
 DROP TABLE IF EXISTS food_access_parameters;

@@ -15,7 +15,7 @@
 -- Run it on a copy of the demo database:
 --     cargo build --release && mkdir -p results \
 --       && cp demo-db/demo-region.gpkg results/hazard-proximity.gpkg \
---       && sqlite3 results/hazard-proximity.gpkg < sql-examples/hazard-proximity.sql
+--       && LD_LIBRARY_PATH=$PWD/target/release sqlite3 results/hazard-proximity.gpkg < sql-examples/hazard-proximity.sql
 --
 -- Inputs (tables of the GeoPackage): blocks (fid, geoid, population,
 -- geom), hazard_sites (fid, site_id, kind, geom), counties (geoid, name,
@@ -36,9 +36,11 @@
 -- The demo database is invented data (a fictional state over open ocean).
 
 .bail on
-.load target/release/libambit
--- The counts the building steps return are not printed; the tables are.
-.output /dev/null
+-- ambit is found on the library search path (README, "Install").
+.load libambit
+-- The counts the building steps return go to a log in results/, not the
+-- screen; the tables are printed.
+.output results/hazard-proximity.log
 
 -- 1. Parameters: every choice in one place, written into the results. ----
 DROP TABLE IF EXISTS hazard_parameters;

@@ -3,7 +3,7 @@
 --
 -- It runs after exercise-access.sql, on the same file (the README's first
 -- command makes results/exercise-access.gpkg), from the project folder:
---     sqlite3 results/exercise-access.gpkg < sql-examples/join-measures.sql
+--     LD_LIBRARY_PATH=$PWD/target/release sqlite3 results/exercise-access.gpkg < sql-examples/join-measures.sql
 -- and refuses with a message when county_access is missing.
 --
 -- Inputs: county_access (made by exercise-access.sql) and
@@ -35,8 +35,9 @@
 -- All the data are invented (a fictional state over open ocean).
 
 .bail on
-.load target/release/libambit
-.output /dev/null
+-- ambit is found on the library search path (README, "Install").
+.load libambit
+.output results/join-measures.log
 
 -- 0. The indicator must be there: run exercise-access.sql first. --------
 DROP TABLE IF EXISTS temp.input_check;
@@ -161,7 +162,8 @@ SELECT county_geoid, county_name, population, pct_with_access, measure_year,
        round(z_obesity, 4) AS z_obesity,
        round(z_household_income, 4) AS z_household_income
 FROM county_measures_joined ORDER BY county_geoid;
-.output /dev/null
+-- The sizes of the files written go to a second log.
+.output results/join-measures-files.log
 .headers off
 .mode list
 

@@ -18,7 +18,7 @@
 -- Run it on a copy of the demo database:
 --     cargo build --release && mkdir -p results \
 --       && cp demo-db/demo-region.gpkg results/land-coverage.gpkg \
---       && sqlite3 results/land-coverage.gpkg < sql-examples/land-coverage.sql
+--       && LD_LIBRARY_PATH=$PWD/target/release sqlite3 results/land-coverage.gpkg < sql-examples/land-coverage.sql
 --
 -- Inputs: blocks (geoid, water, geom), parks (geom), counties (geoid, name,
 -- geom). Outputs: coverage_parameters, block_land_coverage, county_land_coverage
@@ -31,8 +31,9 @@
 -- The demo database is invented data (a fictional state over open ocean).
 
 .bail on
-.load target/release/libambit
-.output /dev/null
+-- ambit is found on the library search path (README, "Install").
+.load libambit
+.output results/land-coverage.log
 
 -- 1. Parameters. ------------------------------------------------------------
 DROP TABLE IF EXISTS coverage_parameters;

@@ -30,7 +30,8 @@ fn root() -> PathBuf {
 }
 
 fn temp_dir(name: &str) -> PathBuf {
-    let dir = std::env::temp_dir().join(format!("ambit-demo-{name}-{}", std::process::id()));
+    let dir = Path::new(env!("CARGO_TARGET_TMPDIR"))
+        .join(format!("ambit-demo-{name}-{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
     dir
 }
@@ -68,12 +69,7 @@ fn run_indicator(dir: &Path) -> (PathBuf, String) {
     std::fs::copy(root().join(DEMO), &db).unwrap();
     std::fs::create_dir_all(dir.join("results")).unwrap();
     let script = std::fs::read_to_string(root().join("sql-examples/exercise-access.sql")).unwrap();
-    let body: String = script
-        .lines()
-        .filter(|l| !l.starts_with(".load "))
-        .map(|l| format!("{l}\n"))
-        .collect();
-    let run = common::shell_at(Some(dir), &[db.to_str().unwrap()], &[], &body);
+    let run = common::shell_script_at(dir, &[db.to_str().unwrap()], &script);
     assert_eq!(run.status, 0, "{}", run.stderr);
     (db, run.stdout)
 }
@@ -259,7 +255,7 @@ print(len(pct), "counties", ",".join(f"{v:.1f}" for v in pct))
 meta, fids, geometries, fields = pyogrio.raw.read(path, layer="block_access", max_features=50)
 assert len(geometries) == 50
 "#;
-    let out = Command::new("python3")
+    let out = Command::new(common::python())
         .args(["-c", check])
         .arg(&db)
         .output()

@@ -271,7 +271,7 @@ meta, fids, geometries, fields = pyogrio.raw.read(path, layer="county_food_acces
 pct = fields[list(meta["fields"]).index("pct_low_access")]
 print(",".join(f"{v:.1f}" for v in pct))
 "#;
-    let out = std::process::Command::new("python3")
+    let out = std::process::Command::new(common::python())
         .args(["-c", check])
         .arg(&db)
         .output()

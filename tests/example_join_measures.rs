@@ -238,7 +238,7 @@ fn the_join_gives_independent_z_scores_and_its_outputs_read_back() {
     .map(|r| r.join(" "))
     .collect();
     std::fs::write(&county_file, lines.join("\n") + "\n").unwrap();
-    let out = Command::new("python3")
+    let out = Command::new(common::python())
         .arg("-c")
         .arg(READ_BACK)
         .arg(dir.join("results/county-measures.geojson"))

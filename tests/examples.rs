@@ -6,18 +6,12 @@ mod common;
 fn run_example(name: &str) -> common::ShellRun {
     let path = format!("{}/sql-examples/{name}", env!("CARGO_MANIFEST_DIR"));
     let script = std::fs::read_to_string(&path).expect("example script");
-    // The scripts load the release build by its relative path; the test
-    // loads the library built for this run instead (common::shell does).
-    let body: String = script
-        .lines()
-        .filter(|l| !l.starts_with(".load "))
-        .map(|l| format!("{l}\n"))
-        .collect();
-    assert!(
-        script.contains(".load target/release/libambit"),
-        "{name} loads ambit"
-    );
-    common::shell_with(&[":memory:"], &body)
+    // The script as written, from a folder outside the repository, with
+    // ambit found only through LD_LIBRARY_PATH (README, "Install").
+    let dir = common::example_dir(&name.replace(".sql", ""));
+    let run = common::shell_script_at(&dir, &[":memory:"], &script);
+    std::fs::remove_dir_all(&dir).ok();
+    run
 }
 
 #[test]
@@ -57,6 +51,69 @@ fn first_steps_runs_and_its_numbers_are_right() {
         "{}",
         run.stdout
     );
+}
+
+/// Without the library search path the scripts' `.load libambit` fails
+/// with SQLite's own message, and the shell stops (`.bail on`) before any
+/// step runs: the setting is what finds the library, not the folder.
+#[test]
+fn the_scripts_find_ambit_only_through_the_library_search_path() {
+    let dir = common::example_dir("no-search-path");
+    let script = common::example_sql("exercise-access.sql");
+    let db = dir.join("demo.gpkg");
+    std::fs::copy(
+        std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join(common::DEMO_DB),
+        &db,
+    )
+    .unwrap();
+    let out = std::process::Command::new(common::SHELL)
+        .current_dir(&dir)
+        .arg(&db)
+        .env_remove("LD_LIBRARY_PATH")
+        .stdin(
+            std::fs::File::open(
+                std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+                    .join("sql-examples/exercise-access.sql"),
+            )
+            .unwrap(),
+        )
+        .output()
+        .unwrap();
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        !out.status.success(),
+        "loaded without the setting: {stderr}"
+    );
+    assert!(stderr.contains("libambit"), "{stderr}");
+    assert!(
+        script.contains("\n.bail on\n"),
+        "the script stops at errors"
+    );
+    let tables = common::db_rows(
+        &db,
+        "SELECT count(*) FROM sqlite_master WHERE name = 'build_parameters'",
+    );
+    assert_eq!(tables[0][0], "0", "a step ran without ambit");
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+/// No script names a path that exists only on POSIX systems.
+#[test]
+fn the_scripts_name_no_posix_only_paths() {
+    for entry in std::fs::read_dir(concat!(env!("CARGO_MANIFEST_DIR"), "/sql-examples")).unwrap() {
+        let path = entry.unwrap().path();
+        if path.extension().is_none_or(|e| e != "sql") {
+            continue;
+        }
+        let text = std::fs::read_to_string(&path).unwrap();
+        for line in text.lines().filter(|l| l.starts_with('.')) {
+            assert!(
+                !line.contains("/dev/") && !line.contains("target/"),
+                "{}: {line}",
+                path.display()
+            );
+        }
+    }
 }
 
 /// Every script in sql-examples/ has a test that runs it on demo-db/ and

@@ -27,7 +27,7 @@ INSERT INTO c VALUES
 
 /// Runs a Python script with the given arguments and returns its output.
 fn python(script: &str, args: &[&str]) -> String {
-    let out = Command::new("python3")
+    let out = Command::new(common::python())
         .arg("-c")
         .arg(script)
         .args(args)

@@ -36,7 +36,7 @@ fn statistics(with: &str, from: &str) -> [f64; 4] {
 /// Runs the Python `script` with `input` on its standard input, asserts it
 /// succeeded and returns what it printed.
 fn run_python(script: &str, input: &str) -> String {
-    let mut child = Command::new("python3")
+    let mut child = Command::new(common::python())
         .args(["-c", script])
         .stdin(Stdio::piped())
         .stdout(Stdio::piped())

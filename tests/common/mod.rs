@@ -55,6 +55,40 @@ pub fn shell_at(
     env: &[(&str, &str)],
     sql: &str,
 ) -> ShellRun {
+    let script = format!(".load {}\n{sql}\n", library().with_extension("").display());
+    run_shell(dir, args, env, &script)
+}
+
+/// The folder of the library built for this run, as the value of the
+/// library search path (LD_LIBRARY_PATH) that README "Install" documents:
+/// the example scripts' `.load libambit` finds the library there.
+pub fn library_search_path() -> String {
+    library()
+        .parent()
+        .expect("library folder")
+        .to_str()
+        .expect("utf-8 path")
+        .to_string()
+}
+
+/// Runs a script of sql-examples/ as it is written, its `.load libambit`
+/// line included, in the sqlite3 shell in the folder `dir`, with the
+/// library found through LD_LIBRARY_PATH as README "Install" says.
+pub fn shell_script_at(dir: &std::path::Path, args: &[&str], script: &str) -> ShellRun {
+    assert!(
+        script.contains("\n.load libambit\n"),
+        "the script loads ambit with `.load libambit`"
+    );
+    let path = library_search_path();
+    run_shell(Some(dir), args, &[("LD_LIBRARY_PATH", &path)], script)
+}
+
+fn run_shell(
+    dir: Option<&std::path::Path>,
+    args: &[&str],
+    env: &[(&str, &str)],
+    script: &str,
+) -> ShellRun {
     let mut command = Command::new(SHELL);
     if let Some(dir) = dir {
         command.current_dir(dir);
@@ -67,7 +101,6 @@ pub fn shell_at(
         .stderr(Stdio::piped())
         .spawn()
         .unwrap_or_else(|e| panic!("cannot start {SHELL} ({e}); tests/prepare-host installs it"));
-    let script = format!(".load {}\n{sql}\n", library().with_extension("").display());
     child
         .stdin
         .take()
@@ -107,7 +140,19 @@ pub fn python_check(script: &str) -> String {
 
 /// [`python_check`] with more arguments after the library's path.
 pub fn python_check_with(script: &str, more: &[&str]) -> String {
-    python_check_in("python3", script, more)
+    python_check_in(&python(), script, more)
+}
+
+/// The Python of the tests: the virtual environment tests/prepare-host
+/// makes with Debian's python3 and the packages of
+/// tests/python/requirements.txt.
+pub fn python() -> String {
+    let venv = concat!(env!("CARGO_MANIFEST_DIR"), "/target/test-venv/bin/python");
+    assert!(
+        std::path::Path::new(venv).exists(),
+        "{venv} is missing; run tests/prepare-host"
+    );
+    venv.to_string()
 }
 
 /// Debian's own Python: its sqlite3 module is built on the system SQLite
@@ -141,35 +186,29 @@ pub fn python_check_in(python: &str, script: &str, more: &[&str]) -> String {
 /// The committed demo database (demo-db/README.md).
 pub const DEMO_DB: &str = "demo-db/demo-region.gpkg";
 
-/// A fresh folder for one example test, with a results/ folder in it.
+/// A fresh folder for one example test under target/tmp (never /tmp), with
+/// a results/ folder in it.
 pub fn example_dir(name: &str) -> PathBuf {
-    let dir = std::env::temp_dir().join(format!("ambit-example-{name}-{}", std::process::id()));
+    let dir = std::path::Path::new(env!("CARGO_TARGET_TMPDIR"))
+        .join(format!("ambit-example-{name}-{}", std::process::id()));
     let _ = std::fs::remove_dir_all(&dir);
     std::fs::create_dir_all(dir.join("results")).expect("results folder");
     dir
 }
 
-/// Runs the SQL of sql-examples/`script` (its `.load` line replaced by the
-/// library of this test run) on a fresh copy of the demo database in
-/// `dir`, the way the script's header says to run it; asserts it succeeded
-/// without messages and returns the copy and what the script printed.
+/// Runs the SQL of sql-examples/`script` as written (ambit found through
+/// LD_LIBRARY_PATH, see [`shell_script_at`]) on a fresh copy of the demo
+/// database in `dir`, the way the script's header says to run it; asserts
+/// it succeeded without messages and returns the copy and what the script
+/// printed.
 pub fn run_on_demo_copy(dir: &std::path::Path, script: &str, sql: &str) -> (PathBuf, String) {
-    assert!(
-        sql.contains("\n.load target/release/libambit\n"),
-        "{script} loads ambit"
-    );
     let db = dir.join(script.replace(".sql", ".gpkg"));
     std::fs::copy(
         std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join(DEMO_DB),
         &db,
     )
     .expect("copy of the demo database");
-    let body: String = sql
-        .lines()
-        .filter(|l| !l.starts_with(".load "))
-        .map(|l| format!("{l}\n"))
-        .collect();
-    let run = shell_at(Some(dir), &[db.to_str().expect("path")], &[], &body);
+    let run = shell_script_at(dir, &[db.to_str().expect("path")], sql);
     assert!(
         run.status == 0 && run.stderr.is_empty(),
         "{script} failed (status {}):\n{}",
@@ -300,32 +339,12 @@ pub fn pct1(part: i64, whole: i64) -> Option<f64> {
     (whole != 0).then(|| (1000.0 * part as f64 / whole as f64).round() / 10.0)
 }
 
-/// The text of the script sql-examples/`name` without its `.load` line (the
-/// scripts load the release build by its relative path; the tests load the
-/// library built for this run, as `shell_at` does).
-pub fn example_body(name: &str) -> String {
-    let script = example_sql(name);
-    assert!(
-        script.contains(".load target/release/libambit"),
-        "{name} loads ambit"
-    );
-    script
-        .lines()
-        .filter(|l| !l.starts_with(".load "))
-        .map(|l| format!("{l}\n"))
-        .collect()
-}
-
-/// Runs sql-examples/`name` on the database file `db` with `dir` as the
-/// current folder (so its `results/...` files land in `dir/results`).
+/// Runs sql-examples/`name` as written on the database file `db` with
+/// `dir` as the current folder (so its `results/...` files land in
+/// `dir/results`) and ambit found through LD_LIBRARY_PATH.
 pub fn run_example_on(dir: &std::path::Path, db: &std::path::Path, name: &str) -> ShellRun {
     std::fs::create_dir_all(dir.join("results")).expect("results folder");
-    shell_at(
-        Some(dir),
-        &[db.to_str().expect("utf-8 path")],
-        &[],
-        &example_body(name),
-    )
+    shell_script_at(dir, &[db.to_str().expect("utf-8 path")], &example_sql(name))
 }
 
 /// The cells of the rows of a table printed in the shell's box mode (the
