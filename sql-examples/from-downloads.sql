@@ -10,10 +10,12 @@
 -- recreation registry as GeoJSON and a fitness licensing list as CSV with
 -- latitude/longitude columns and a few rows that cannot be placed.
 --
--- Run it in a folder that holds the downloads in downloads/:
---     demo-db/build-region 21000 20261201 /tmp/region.gpkg --downloads downloads
---     mkdir -p results && sqlite3 results/from-downloads.gpkg < sql-examples/from-downloads.sql
---     sqlite3 results/from-downloads.gpkg < sql-examples/exercise-access.sql
+-- Run it in a folder that holds the downloads in downloads/ (ambit found on
+-- the library search path, README "Install"):
+--     mkdir -p results
+--     demo-db/build-region 21000 20261201 results/region.gpkg --downloads downloads
+--     LD_LIBRARY_PATH=$PWD/target/release sqlite3 results/from-downloads.gpkg < sql-examples/from-downloads.sql
+--     LD_LIBRARY_PATH=$PWD/target/release sqlite3 results/from-downloads.gpkg < sql-examples/exercise-access.sql
 -- The last command prints the same county table as the README's first
 -- command on demo-db/demo-region.gpkg (tests/from_downloads.rs checks it).
 --
@@ -24,8 +26,11 @@
 -- dropped silently; those rows are kept with a NULL geometry).
 
 .bail on
-.load target/release/libambit
-.output /dev/null
+-- ambit is found on the library search path (README, "Install").
+.load libambit
+-- The counts the building steps return go to a log in results/, not the
+-- screen; the table of rows that could not be placed is printed.
+.output results/from-downloads.log
 
 -- 1. Read every file once; rows that cannot be placed are kept with the
 -- reason (bad_rows: keep), and listed in download_problems below. --------

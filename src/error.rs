@@ -264,7 +264,7 @@ impl fmt::Display for GeomError {
             ),
             UnsupportedSrs { srs_id } => write!(
                 f,
-                "srs_id {srs_id} is not longitude/latitude; ambit measures on WGS84 (srs_id 4326, also 4269 and 0/-1 for undefined): reproject the data to EPSG:4326 first"
+                "srs_id {srs_id} is not longitude/latitude; ambit measures on WGS84 (srs_id 4326, also 4269 and 0/-1 for undefined): convert it to longitude/latitude (EPSG:4326) first with ambit_to_lonlat(geom), which reads the system from gpkg_spatial_ref_sys or takes an EPSG code"
             ),
             NotFinite { vertex } => write!(
                 f,
@@ -279,7 +279,7 @@ impl fmt::Display for GeomError {
                 } else {
                     write!(
                         f,
-                        "vertex {vertex} ({x}, {y}) is outside longitude [-540, 540] / latitude [-90, 90]: the coordinates look projected (reproject to EPSG:4326 longitude/latitude) or corrupt"
+                        "vertex {vertex} ({x}, {y}) is outside longitude [-540, 540] / latitude [-90, 90]: the coordinates look projected (convert them with ambit_to_lonlat(geom, source)) or corrupt"
                     )
                 }
             }

@@ -206,7 +206,7 @@ const BAD_INPUTS: &[Bad] = &[
     },
     Bad {
         sql: "SELECT ST_Point(1, 2, 3857);",
-        message: &["ST_Point: srs_id 3857 is not longitude/latitude", "reproject"],
+        message: &["ST_Point: srs_id 3857 is not longitude/latitude", "ambit_to_lonlat"],
     },
     Bad {
         sql: "SELECT ST_AsText(x'47500001CE1300000101000000000000000000F03F0000000000000040');",

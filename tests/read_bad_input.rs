@@ -19,9 +19,11 @@ use std::path::{Path, PathBuf};
 
 use common::{shell_at, ShellRun};
 
-/// A fresh folder for one test.
+/// A fresh folder for one test, under target/tmp (tests leave nothing in
+/// /tmp).
 fn folder(name: &str) -> PathBuf {
-    let dir = std::env::temp_dir().join(format!("ambit-read-bad-{}-{name}", std::process::id()));
+    let dir = Path::new(env!("CARGO_TARGET_TMPDIR"))
+        .join(format!("ambit-read-bad-{}-{name}", std::process::id()));
     let _ = std::fs::remove_dir_all(&dir);
     std::fs::create_dir_all(&dir).unwrap();
     dir
@@ -353,7 +355,7 @@ fn zip_with(path: &Path, members: &[(&str, Vec<u8>)]) {
         path.display().to_string(),
         names.join(", ")
     );
-    let status = std::process::Command::new("python3")
+    let status = std::process::Command::new(common::python())
         .arg("-c")
         .arg(script)
         .status()
