@@ -25,6 +25,7 @@ use crate::geodesy::{inverse, local};
 use crate::geometry::{Geometry, Shape};
 use crate::interrupt::{Interrupt, Never};
 use crate::memory;
+use crate::proximity::balltree::BallTree;
 use crate::proximity::boxes::LonLatBox;
 
 /// A (longitude, latitude) pair in degrees.
@@ -212,6 +213,9 @@ pub struct Prepared {
     /// True when some element's box was split at the antimeridian (stored
     /// twice in the index).
     pub split_boxes: bool,
+    /// The hierarchy of balls for best-first nearest searches
+    /// ([`Prepared::add_ball_tree`]; layer features have one).
+    pub tree: Option<BallTree>,
 }
 
 /// The (lon, lat) pairs of an interleaved part (a closed ring when
@@ -317,7 +321,19 @@ impl Prepared {
         } else {
             0
         };
-        std::mem::size_of::<Prepared>() + n.saturating_mul(per_vertex) + tree
+        std::mem::size_of::<Prepared>()
+            + n.saturating_mul(per_vertex)
+            + tree
+            + BallTree::estimated_bytes(n)
+    }
+
+    /// Builds [`Prepared::tree`] if it is missing (see
+    /// [`BallTree::build`] for `stop` and the errors).
+    pub fn add_ball_tree(&mut self, stop: &dyn Interrupt) -> Result<(), GeomError> {
+        if self.tree.is_none() {
+            self.tree = Some(BallTree::build(&self.elements, stop)?);
+        }
+        Ok(())
     }
 
     fn add(&mut self, g: &Geometry) -> Result<(), GeomError> {

@@ -1,10 +1,15 @@
-//! ambit_sweep(layer, query): every row of `query` (its first column an
-//! id of any type, its second a geometry) against a layer, on all cores.
+//! ambit_sweep(layer, query [, max_m]): every row of `query` (its first
+//! column an id of any type, its second a geometry) against a layer, on
+//! all cores.
 //!
 //! ```text
 //! SELECT id, reached, nearest_m, share
 //! FROM ambit_sweep('parks', 'SELECT geoid, geom FROM blocks');
 //! ```
+//!
+//! With `max_m` (metres, or a length with its unit as text), `nearest_m` is
+//! NULL where no feature lies within `max_m`, as ambit_nearest's third
+//! argument, and the nearest search stops there.
 //!
 //! Only the columns the statement uses are computed (SQLite tells the
 //! table which, in its plan): `reached` alone is the cheapest, `share`
@@ -53,7 +58,7 @@ use crate::sql::tables::{argument_plan_with, arguments, table_error};
 use crate::sql::{guard, interrupted, Args};
 
 const SWEEP: &str = "ambit_sweep";
-const SWEEP_PARAMS: &[&str] = &["layer", "query"];
+const SWEEP_PARAMS: &[&str] = &["layer", "query", "max_m"];
 
 /// The most rows one parallel task evaluates before others can take the
 /// rest of its share.
@@ -227,6 +232,7 @@ fn evaluate(
     id: Value,
     geom: Value,
     wanted: Wanted,
+    max_m: Option<f64>,
     stop: &dyn Interrupt,
 ) -> Result<Row, String> {
     let (reached, nearest, share) = match &geom {
@@ -238,7 +244,7 @@ fn evaluate(
             let (reached, nearest) = match (wanted.has(COL_REACHED), wanted.has(COL_NEAREST)) {
                 (true, true) => {
                     let (r, n) = layer
-                        .reached_and_nearest_until(&g, stop)
+                        .reached_and_nearest_until(&g, max_m, stop)
                         .map_err(|e| fail(&e))?;
                     (Some(r), n)
                 }
@@ -248,7 +254,7 @@ fn evaluate(
                 ),
                 (false, true) => (
                     None,
-                    layer.nearest_until(&g, None, stop).map_err(|e| fail(&e))?,
+                    layer.nearest_until(&g, max_m, stop).map_err(|e| fail(&e))?,
                 ),
                 (false, false) => (None, None),
             };
@@ -365,7 +371,7 @@ unsafe impl<'vtab> VTab<'vtab> for SweepTable {
         let handle = unsafe { DbHandle::new(db.handle()) };
         Ok((
             Cow::Borrowed(
-                c"CREATE TABLE x(id, reached INTEGER, nearest_m REAL, share REAL, layer HIDDEN, query HIDDEN)",
+                c"CREATE TABLE x(id, reached INTEGER, nearest_m REAL, share REAL, layer HIDDEN, query HIDDEN, max_m HIDDEN)",
             ),
             SweepTable {
                 base: ffi::sqlite3_vtab::default(),
@@ -377,7 +383,7 @@ unsafe impl<'vtab> VTab<'vtab> for SweepTable {
 
     fn best_index(&self, info: &mut IndexInfo) -> rusqlite::Result<bool> {
         let used = Wanted::from_col_used(info.col_used());
-        argument_plan_with(info, FIRST_ARG, 2, 2, (used.0 << USED_SHIFT) as c_int)
+        argument_plan_with(info, FIRST_ARG, 3, 2, (used.0 << USED_SHIFT) as c_int)
     }
 
     fn open(&'vtab mut self) -> rusqlite::Result<SweepCursor<'vtab>> {
@@ -396,6 +402,8 @@ unsafe impl<'vtab> VTab<'vtab> for SweepTable {
 struct Run {
     layer: Arc<Layer>,
     wanted: Wanted,
+    /// nearest_m is NULL beyond this (metres), and not searched for.
+    max_m: Option<f64>,
     query: RawQuery,
     finished: bool,
     progress: Option<Progress>,
@@ -419,6 +427,7 @@ impl SweepCursor<'_> {
         let sql = args
             .text(1)?
             .ok_or_else(|| args.fail_arg(1, "must not be NULL"))?;
+        let max_m = args.distance(2)?;
         let layer = args.state().layer(SWEEP, name)?;
         let query = RawQuery::prepare(self.table.db, sql).map_err(|e| args.fail_arg(1, e))?;
         if query.columns() < 2 {
@@ -447,6 +456,7 @@ impl SweepCursor<'_> {
         self.run = Some(Run {
             layer,
             wanted,
+            max_m,
             query,
             finished: false,
             progress,
@@ -477,7 +487,7 @@ impl SweepCursor<'_> {
             }
         }
         let layer = Arc::clone(&run.layer);
-        let wanted = run.wanted;
+        let (wanted, max_m) = (run.wanted, run.max_m);
         let n = input.len() as u64;
         // Rows differ in cost by 1000x (a block beside a park of thousands
         // of edges against one in the open), and neighbours in a table are
@@ -498,7 +508,7 @@ impl SweepCursor<'_> {
                     if stop.requested() {
                         return Err(None);
                     }
-                    evaluate(&layer, id, geom, wanted, stop).map_err(Some)
+                    evaluate(&layer, id, geom, wanted, max_m, stop).map_err(Some)
                 })
                 .collect()
         });
@@ -529,7 +539,7 @@ unsafe impl VTabCursor for SweepCursor<'_> {
             ));
         }
         let state = Arc::clone(&self.table.state);
-        let args = Args::new(SWEEP, SWEEP_PARAMS, arguments(idx, values, 2), &state);
+        let args = Args::new(SWEEP, SWEEP_PARAMS, arguments(idx, values, 3), &state);
         let wanted = Wanted((idx as u32) >> USED_SHIFT);
         self.run = None;
         guard(SWEEP, || self.start(&args, wanted))
