@@ -20,8 +20,9 @@ use crate::geometry::Geometry;
 use crate::interrupt::{Interrupt, Never};
 use crate::memory;
 use crate::proximity::balltree::{space_box, BallTree};
+use crate::proximity::boxes::LonLatBox;
 use crate::proximity::distance::{distance_within, nearest_between, within, within_interruptible};
-use crate::proximity::prepared::{tree_bytes, wrap_delta, Prepared};
+use crate::proximity::prepared::{tree_bytes, wrap_delta, Ball, Prepared};
 use crate::proximity::share::{coverage_share, ShareError};
 
 /// Features indexed between two interrupt checks.
@@ -505,6 +506,26 @@ impl Layer {
             + self.tree.size() * 48
             + self.space.size() * 64
             + self.ids.capacity() * std::mem::size_of::<i64>()
+    }
+
+    /// False when no feature's reach-grown box meets `b`: then no feature
+    /// lies within its reach of any geometry inside `b` (the index never
+    /// loses a candidate), so such a geometry is not reached. Lets the
+    /// sweep skip preparing a geometry from its
+    /// [`crate::proximity::boxes::envelope`] alone.
+    /// With `ball` (a ball holding `b`), candidates whose own ball is
+    /// farther from it than their reach ([`Ball::gap`], a lower bound on
+    /// the distance) are not counted either.
+    pub fn may_reach(&self, b: &LonLatBox, ball: Option<&Ball>) -> bool {
+        b.normalised().iter().any(|q| {
+            self.tree.locate_in_envelope_intersecting(*q).any(|e| {
+                match (ball, self.features[e.data as usize].geometry.ball) {
+                    (None, _) => true,
+                    (Some(g), Some(f)) => g.gap(&f) <= self.features[e.data as usize].reach,
+                    (Some(_), None) => false,
+                }
+            })
+        })
     }
 
     /// Features whose reach-grown boxes meet `g`'s box grown by `grow_m`,

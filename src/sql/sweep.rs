@@ -51,6 +51,7 @@ use rusqlite::vtab::{Context, Filters, IndexInfo, VTab, VTabConnection, VTabCurs
 
 use crate::blob;
 use crate::interrupt::Interrupt;
+use crate::proximity::boxes::{ball_around, envelope};
 use crate::proximity::{Layer, Prepared};
 use crate::sql::interrupt::{run_parallel, HostInterrupt};
 use crate::sql::state::ConnState;
@@ -240,6 +241,19 @@ fn evaluate(
         Value::Blob(bytes) => {
             let fail = |e: &dyn std::fmt::Display| format!("row with id {}: {e}", show(&id));
             let decoded = blob::decode_valid(bytes).map_err(|e| fail(&e))?;
+            // Reached alone, and no feature's box near the geometry's
+            // envelope: not reached, without preparing it.
+            if wanted.0 == 1 << COL_REACHED
+                && envelope(&decoded.geometry)
+                    .is_some_and(|b| !layer.may_reach(&b, Some(&ball_around(&b))))
+            {
+                return Ok(Row {
+                    id,
+                    reached: Value::Integer(0),
+                    nearest: Value::Null,
+                    share: Value::Null,
+                });
+            }
             let g = Prepared::build(&decoded.geometry, stop).map_err(|e| fail(&e))?;
             let (reached, nearest) = match (wanted.has(COL_REACHED), wanted.has(COL_NEAREST)) {
                 (true, true) => {
