@@ -228,7 +228,7 @@ fn a_200000_vertex_polygon_is_indexed_and_answers_exactly() {
     pts.push(pts[0].clone());
     let big = feature(1, &format!("POLYGON (({}))", pts.join(", ")), 804.672);
     assert!(
-        big.geometry.index.is_some(),
+        big.geometry.indexed(),
         "large polygons get an element index"
     );
     let layer = Layer::new(vec![big]);

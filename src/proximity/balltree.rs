@@ -28,6 +28,7 @@ use crate::geodesy::ellipsoid::A;
 use crate::geodesy::inverse;
 use crate::interrupt::Interrupt;
 use crate::memory;
+use crate::proximity::boxes::LonLatBox;
 use crate::proximity::prepared::{arc_upper, chord_lower, Ball, Element, MAX_BALL_RADIUS};
 
 /// Children per group.
@@ -144,6 +145,36 @@ impl BallTree {
             level,
             index: k as u32,
         })
+    }
+
+    /// Pushes onto `out`, in increasing order, the elements whose ball's
+    /// box ([`LonLatBox::around`], as the element index of a geometry
+    /// always had) meets one of `queries`. Groups whose ball's box meets
+    /// none are skipped: a group's ball holds every point of its elements,
+    /// so an element with a point in a query box is never lost (a caller
+    /// needs no more: the boxes only narrow which elements are decided
+    /// exactly).
+    pub fn elements_meeting(
+        &self,
+        elements: &[(Element, Ball)],
+        queries: &[rstar::AABB<[f64; 2]>],
+        out: &mut Vec<usize>,
+    ) {
+        let Some(root) = self.root() else { return };
+        let mut stack = vec![root];
+        while let Some(node) = stack.pop() {
+            if !LonLatBox::around(self.ball(node, elements), 0.0).meets(queries) {
+                continue;
+            }
+            if node.level == 0 {
+                out.push(node.index as usize);
+            } else {
+                // Reversed, so that elements come out in increasing order.
+                let first = stack.len();
+                stack.extend(self.children(node));
+                stack[first..].reverse();
+            }
+        }
     }
 
     /// Bytes held (for memory reports).

@@ -8,7 +8,7 @@
 //! distance of each other if some box of one, grown by that distance with
 //! [`crate::geodesy::local::degrees_padding`], meets some box of the other.
 
-use rstar::AABB;
+use rstar::{Envelope as _, AABB};
 
 use crate::geodesy::local::degrees_padding;
 use crate::geometry::{Geometry, Shape};
@@ -68,26 +68,53 @@ impl LonLatBox {
         }
     }
 
+    /// True when one of [`LonLatBox::normalised`]'s boxes meets one of
+    /// `queries` (without allocating).
+    pub fn meets(&self, queries: &[AABB<[f64; 2]>]) -> bool {
+        let (parts, n) = self.normalised_parts();
+        parts[..n]
+            .iter()
+            .any(|b| queries.iter().any(|q| b.intersects(q)))
+    }
+
+    /// [`LonLatBox::normalised`] in an array: the boxes and how many.
+    pub fn normalised_parts(&self) -> ([AABB<[f64; 2]>; 2], usize) {
+        let v = self.normalised_inner();
+        (v.0, v.1)
+    }
+
     /// One or two boxes inside [-180, 180] x [-90, 90] covering this one,
     /// rounded outward.
     pub fn normalised(&self) -> Vec<AABB<[f64; 2]>> {
+        let (parts, n) = self.normalised_inner();
+        parts[..n].to_vec()
+    }
+
+    fn normalised_inner(&self) -> ([AABB<[f64; 2]>; 2], usize) {
+        let none = AABB::from_corners([0.0, 0.0], [0.0, 0.0]);
         let lat_lo = (self.lat_lo - OUTWARD).max(-90.0);
         let lat_hi = (self.lat_hi + OUTWARD).min(90.0);
         let mut lo = self.lon_lo - OUTWARD;
         let mut hi = self.lon_hi + OUTWARD;
         if hi - lo >= 360.0 || (hi - lo).is_nan() {
-            return vec![AABB::from_corners([-180.0, lat_lo], [180.0, lat_hi])];
+            return (
+                [AABB::from_corners([-180.0, lat_lo], [180.0, lat_hi]), none],
+                1,
+            );
         }
         let turns = ((lo + 180.0) / 360.0).floor() * 360.0;
         lo -= turns;
         hi -= turns;
         if hi <= 180.0 {
-            vec![AABB::from_corners([lo, lat_lo], [hi, lat_hi])]
+            ([AABB::from_corners([lo, lat_lo], [hi, lat_hi]), none], 1)
         } else {
-            vec![
-                AABB::from_corners([lo, lat_lo], [180.0, lat_hi]),
-                AABB::from_corners([-180.0, lat_lo], [hi - 360.0, lat_hi]),
-            ]
+            (
+                [
+                    AABB::from_corners([lo, lat_lo], [180.0, lat_hi]),
+                    AABB::from_corners([-180.0, lat_lo], [hi - 360.0, lat_hi]),
+                ],
+                2,
+            )
         }
     }
 }

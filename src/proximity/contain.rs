@@ -94,7 +94,7 @@ pub fn point_in_prepared(p: LonLat, g: &Prepared) -> bool {
     if g.polygons.is_empty() {
         return false;
     }
-    if g.index.is_none() {
+    if !g.indexed() {
         // Small geometries: walk the rings directly, allocating nothing.
         return g
             .polygons

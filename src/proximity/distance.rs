@@ -114,9 +114,10 @@ fn probes_inside(a: &Prepared, b: &Prepared, work: &mut Work) -> bool {
 /// ball is `other`: through `x`'s element index when it has one, then by
 /// each element's ball.
 fn elements_near(x: &Prepared, other: &Ball, cap: f64) -> Vec<usize> {
-    let near = match &x.index {
-        Some(_) if cap.is_finite() => x.elements_near(&LonLatBox::around(other, cap)),
-        _ => (0..x.elements.len()).collect(),
+    let near = if x.indexed() && cap.is_finite() {
+        x.elements_near(&LonLatBox::around(other, cap))
+    } else {
+        (0..x.elements.len()).collect()
     };
     near.into_iter()
         .filter(|&i| x.elements[i].1.gap(other) <= cap)
@@ -144,7 +145,7 @@ fn for_each_candidate(
     } else {
         (&near_a, a, &near_b, b)
     };
-    let indexed = large_geometry.index.is_some() && cap.is_finite() && large_near.len() > 256;
+    let indexed = large_geometry.indexed() && cap.is_finite() && large_near.len() > 256;
     for &i in small {
         let found;
         let js: &[usize] = if indexed {

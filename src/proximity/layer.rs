@@ -82,8 +82,15 @@ impl Feature {
                 )>()
             + g.owners.capacity()
                 * std::mem::size_of::<Option<crate::proximity::prepared::RingRef>>()
-            + self.vertices * 16 * 2
-            + g.index.as_ref().map_or(0, |t| t.size() * 48)
+            + g.points.capacity() * std::mem::size_of::<crate::proximity::prepared::LonLat>()
+            + g.lines
+                .iter()
+                .chain(g.polygons.iter().flatten())
+                .map(|c| {
+                    c.capacity() * std::mem::size_of::<crate::proximity::prepared::LonLat>()
+                        + std::mem::size_of::<Vec<crate::proximity::prepared::LonLat>>()
+                })
+                .sum::<usize>()
             + g.tree.as_ref().map_or(0, BallTree::bytes)
     }
 }

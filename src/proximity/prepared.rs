@@ -17,9 +17,6 @@
 //! (triangle inequality), so a pair whose lower bound exceeds the distance
 //! asked about is skipped without an exact computation.
 
-use rstar::primitives::{GeomWithData, Rectangle};
-use rstar::{RTree, AABB};
-
 use crate::error::GeomError;
 use crate::geodesy::{inverse, local};
 use crate::geometry::{Geometry, Shape};
@@ -177,9 +174,6 @@ pub enum Element {
 /// elements, so that a query near one part does not scan all its edges.
 pub const ELEMENT_INDEX_MIN: usize = 128;
 
-/// An R*-tree entry: an element's box and its position in `elements`.
-pub type IndexEntry = GeomWithData<Rectangle<[f64; 2]>, u32>;
-
 /// Which polygon and ring an edge belongs to.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub struct RingRef {
@@ -208,13 +202,10 @@ pub struct Prepared {
     pub ball: Option<Ball>,
     /// A box around the whole geometry, unwrapped (`None` when empty).
     pub bbox: Option<LonLatBox>,
-    /// The element index of a large geometry.
-    pub index: Option<RTree<IndexEntry>>,
-    /// True when some element's box was split at the antimeridian (stored
-    /// twice in the index).
-    pub split_boxes: bool,
-    /// The hierarchy of balls for best-first nearest searches
-    /// ([`Prepared::add_ball_tree`]; layer features have one).
+    /// The hierarchy of balls over the elements: the element index of a
+    /// geometry of more than [`ELEMENT_INDEX_MIN`] elements, and for
+    /// best-first nearest searches ([`Prepared::add_ball_tree`]; layer
+    /// features always have one).
     pub tree: Option<BallTree>,
 }
 
@@ -316,14 +307,8 @@ impl Prepared {
             + std::mem::size_of::<(Element, Ball)>()
             + std::mem::size_of::<Option<RingRef>>()
             + std::mem::size_of::<[f64; 3]>();
-        let tree = if n > ELEMENT_INDEX_MIN {
-            tree_bytes(n, std::mem::size_of::<IndexEntry>())
-        } else {
-            0
-        };
         std::mem::size_of::<Prepared>()
             + n.saturating_mul(per_vertex)
-            + tree
             + BallTree::estimated_bytes(n)
     }
 
@@ -440,21 +425,7 @@ impl Prepared {
         self.ball = whole_ball(&elements);
         self.bbox = bounding_box(&elements).map(|b| self.with_enclosed_poles(b));
         if elements.len() > ELEMENT_INDEX_MIN {
-            // At most two boxes per element (split at the antimeridian).
-            let mut entries: Vec<IndexEntry> = memory::vec_with_capacity(elements.len())?;
-            for (i, (_, b)) in elements.iter().enumerate() {
-                if i % CHECK_EVERY == CHECK_EVERY - 1 {
-                    stop.check()?;
-                }
-                for r in LonLatBox::around(b, 0.0).normalised() {
-                    memory::reserve_one(&mut entries)?;
-                    entries.push(entry(r, i as u32));
-                }
-            }
-            stop.check()?;
-            self.split_boxes = entries.len() > elements.len();
-            memory::probe(tree_bytes(entries.len(), std::mem::size_of::<IndexEntry>()))?;
-            self.index = Some(RTree::bulk_load(entries));
+            self.tree = Some(BallTree::build(&elements, stop)?);
         }
         self.elements = elements;
         self.owners = owners;
@@ -464,24 +435,22 @@ impl Prepared {
     /// Positions in `elements` of the elements whose boxes meet `query`
     /// (all of them when the geometry has no index). May repeat none.
     pub fn elements_near(&self, query: &LonLatBox) -> Vec<usize> {
-        match &self.index {
-            None => (0..self.elements.len()).collect(),
-            Some(tree) => {
-                let queries = query.normalised();
-                let mut found: Vec<usize> = queries
-                    .iter()
-                    .flat_map(|q| tree.locate_in_envelope_intersecting(*q))
-                    .map(|e| e.data as usize)
-                    .collect();
-                // An element appears twice only if its box was split and
-                // the query met both halves.
-                if self.split_boxes || queries.len() > 1 {
-                    found.sort_unstable();
-                    found.dedup();
-                }
+        match &self.tree {
+            Some(tree) if self.indexed() => {
+                let (parts, n) = query.normalised_parts();
+                let mut found = Vec::new();
+                tree.elements_meeting(&self.elements, &parts[..n], &mut found);
                 found
             }
+            _ => (0..self.elements.len()).collect(),
         }
+    }
+
+    /// True when the geometry has more than [`ELEMENT_INDEX_MIN`]
+    /// elements: its element index ([`Prepared::tree`]) is asked rather
+    /// than every element scanned.
+    pub fn indexed(&self) -> bool {
+        self.elements.len() > ELEMENT_INDEX_MIN && self.tree.is_some()
     }
 
     /// True when the geometry has no vertex.
@@ -501,10 +470,6 @@ impl Prepared {
                 .map(|chain| chain[0]),
         )
     }
-}
-
-fn entry(r: AABB<[f64; 2]>, i: u32) -> IndexEntry {
-    GeomWithData::new(Rectangle::from_aabb(r), i)
 }
 
 /// A ball around all elements: centred on the middle of their centres'
