@@ -12,8 +12,11 @@
 //!   of about 5 m);
 //! - a block 600-900 km from a layer of 3,000 small parks (29 vertices);
 //! - the same with a cap of 10 miles (NULL expected);
+//! - blocks just outside the 400,000-vertex polygon: the reach test at
+//!   half a mile and the nearest distance;
 //! - the layer's bytes per vertex (`Layer::bytes`, as ambit_layers
-//!   reports) for the parks and for a 1,000,000-vertex polygon.
+//!   reports) for the parks and for a 1,000,000-vertex polygon, and the
+//!   growth of resident memory while the latter was built.
 
 use std::time::Instant;
 
@@ -38,7 +41,7 @@ fn ring(centre: (f64, f64), n: usize, radius_deg: f64, wiggle: f64) -> String {
 }
 
 fn feature(id: i64, text: &str) -> Feature {
-    Feature::build(id, 0.0, &wkt::parse(text).unwrap(), &Never).unwrap()
+    Feature::build(id, 804.672, &wkt::parse(text).unwrap(), &Never).unwrap()
 }
 
 fn block(centre: (f64, f64)) -> Prepared {
@@ -74,6 +77,15 @@ fn per_vertex(name: &str, layer: &Layer) {
     );
 }
 
+/// Resident memory of this process, bytes (Linux /proc/self/statm, pages
+/// of 4096 bytes; 0 elsewhere).
+fn resident_bytes() -> usize {
+    std::fs::read_to_string("/proc/self/statm")
+        .ok()
+        .and_then(|s| s.split_whitespace().nth(1)?.parse::<usize>().ok())
+        .map_or(0, |pages| pages * 4096)
+}
+
 fn main() {
     let antipode = std::env::args().any(|a| a == "antipode");
     println!("ambit nearest benchmark (one thread, invented shapes)");
@@ -96,6 +108,20 @@ fn main() {
         &blocks,
         None,
     );
+
+    // Blocks just outside its northern edge (about 3.03 degrees north of
+    // the centre, up to a few km off): the reach test and nearest nearby.
+    let close: Vec<Prepared> = (0..200)
+        .map(|k| block((-100.0 + 0.001 * k as f64, 43.035 + 0.0001 * (k % 20) as f64)))
+        .collect();
+    let start = Instant::now();
+    let reached = close.iter().filter(|b| big.reached(b)).count();
+    println!(
+        "  block near the 400,000-vertex polygon, reached at 0.5 mile: {:.3} ms per block ({reached} of {} reached)",
+        start.elapsed().as_secs_f64() * 1000.0 / close.len() as f64,
+        close.len()
+    );
+    time_nearest("block near the 400,000-vertex polygon", &big, &close, None);
 
     // 3,000 small parks over 10 x 5 degrees; blocks 7-10 degrees north.
     let parks: Vec<Feature> = (0..3000)
@@ -121,12 +147,18 @@ fn main() {
     );
 
     let t = Instant::now();
+    let before = resident_bytes();
     let million = Layer::new(vec![feature(1, &ring((20.0, 10.0), 1_000_000, 2.0, 0.01))]);
+    let grown = resident_bytes().saturating_sub(before);
     println!(
         "  layer of one 1,000,000-vertex polygon built in {:.2} s",
         t.elapsed().as_secs_f64()
     );
     per_vertex("1,000,000-vertex polygon", &million);
+    println!(
+        "  resident memory grew by {:.1} bytes per vertex while it was built (its text and parsed form freed)",
+        grown as f64 / million.vertices() as f64
+    );
     if antipode {
         // The antipode of the ring's centre (20 E, 10 N) is (160 W, 10 S).
         let b = [block((-160.0, -10.0))];
