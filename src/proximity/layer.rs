@@ -80,8 +80,8 @@ impl Feature {
                     crate::proximity::prepared::Element,
                     crate::proximity::prepared::Ball,
                 )>()
-            + g.owners.capacity()
-                * std::mem::size_of::<Option<crate::proximity::prepared::RingRef>>()
+            + g.ring_starts.capacity()
+                * std::mem::size_of::<(u32, crate::proximity::prepared::RingRef)>()
             + g.points.capacity() * std::mem::size_of::<crate::proximity::prepared::LonLat>()
             + g.lines
                 .iter()

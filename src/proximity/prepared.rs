@@ -195,9 +195,9 @@ pub struct Prepared {
     pub north_pole_rings: Vec<Vec<bool>>,
     /// Every element with its ball.
     pub elements: Vec<(Element, Ball)>,
-    /// For each element, the ring it bounds (`None` for points and line
-    /// edges).
-    pub owners: Vec<Option<RingRef>>,
+    /// Where each ring's edges begin in `elements`, in order, with the
+    /// ring ([`Prepared::owner`] reads it).
+    pub ring_starts: Vec<(u32, RingRef)>,
     /// A ball around the whole geometry (`None` when empty).
     pub ball: Option<Ball>,
     /// A box around the whole geometry, unwrapped (`None` when empty).
@@ -305,7 +305,6 @@ impl Prepared {
         let n = g.vertex_count();
         let per_vertex = std::mem::size_of::<LonLat>()
             + std::mem::size_of::<(Element, Ball)>()
-            + std::mem::size_of::<Option<RingRef>>()
             + std::mem::size_of::<[f64; 3]>();
         std::mem::size_of::<Prepared>()
             + n.saturating_mul(per_vertex)
@@ -378,11 +377,10 @@ impl Prepared {
             .sum::<usize>();
         let total = self.points.len() + chains;
         let mut elements = memory::vec_with_capacity(total)?;
-        let mut owners = memory::vec_with_capacity(total)?;
         for &p in &self.points {
             elements.push((Element::Point(p), Ball::point(p)));
-            owners.push(None);
         }
+        let mut ring_starts = Vec::new();
         let mut xyz: Vec<[f64; 3]> = Vec::new();
         let mut edges =
             |chain: &[LonLat], out: &mut Vec<(Element, Ball)>| -> Result<(), GeomError> {
@@ -403,20 +401,20 @@ impl Prepared {
             };
         for line in &self.lines {
             edges(line, &mut elements)?;
-            owners.resize(elements.len(), None);
         }
         for (pi, rings) in self.polygons.iter().enumerate() {
             let mut flags = Vec::with_capacity(rings.len());
             for (ri, ring) in rings.iter().enumerate() {
                 flags.push(crate::proximity::contain::encloses_north_pole(ring));
-                edges(ring, &mut elements)?;
-                owners.resize(
-                    elements.len(),
-                    Some(RingRef {
+                memory::reserve_one(&mut ring_starts)?;
+                ring_starts.push((
+                    elements.len() as u32,
+                    RingRef {
                         polygon: pi as u32,
                         ring: ri as u32,
-                    }),
-                );
+                    },
+                ));
+                edges(ring, &mut elements)?;
             }
             self.north_pole_rings.push(flags);
         }
@@ -428,8 +426,16 @@ impl Prepared {
             self.tree = Some(BallTree::build(&elements, stop)?);
         }
         self.elements = elements;
-        self.owners = owners;
+        self.ring_starts = ring_starts;
         Ok(())
+    }
+
+    /// The ring element `i` bounds (`None` for points and line edges).
+    pub fn owner(&self, i: usize) -> Option<RingRef> {
+        let k = self
+            .ring_starts
+            .partition_point(|&(start, _)| start as usize <= i);
+        (k > 0).then(|| self.ring_starts[k - 1].1)
     }
 
     /// Positions in `elements` of the elements whose boxes meet `query`
