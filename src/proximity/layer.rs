@@ -19,9 +19,11 @@ use crate::error::GeomError;
 use crate::geometry::Geometry;
 use crate::interrupt::{Interrupt, Never};
 use crate::memory;
-use crate::proximity::balltree::{space_box, BallTree};
+use crate::proximity::balltree::{space_box, BallTree, TIGHT_FROM};
 use crate::proximity::boxes::LonLatBox;
-use crate::proximity::distance::{distance_within, nearest_between, within, within_interruptible};
+use crate::proximity::distance::{
+    distance_within, distance_within_interruptible, nearest_between, within, within_interruptible,
+};
 use crate::proximity::prepared::{tree_bytes, wrap_delta, Ball, Prepared};
 use crate::proximity::share::{coverage_share, ShareError};
 
@@ -700,29 +702,64 @@ impl Layer {
             return Ok(None);
         };
         let limit = max_m.unwrap_or(MAX_SEPARATION).min(MAX_SEPARATION);
-        let own;
-        let tree = match &g.tree {
-            Some(t) => t,
-            None => {
-                own = BallTree::build(&g.elements, stop)?;
-                &own
-            }
-        };
+        // g's ball tree, built when first needed.
+        let mut own: Option<BallTree> = None;
         let mut best: Option<(f64, usize)> = None;
-        let near = self.space.nearest_neighbor_iter_with_distance_2(ball.xyz);
-        for (k, (entry, d2)) in near.enumerate() {
-            if k % CHECK_CANDIDATES == CHECK_CANDIDATES - 1 {
+        // Large features met before any distance is known wait until the
+        // small ones near them have given one (their search is then capped).
+        let mut deferred: Vec<(f64, usize)> = Vec::new();
+        let near = self
+            .space
+            .nearest_neighbor_iter_with_distance_2(ball.xyz)
+            .map(|(entry, d2)| {
+                (
+                    d2.sqrt() * (1.0 - 1e-12) - 1e-6 - ball.radius,
+                    entry.data as usize,
+                )
+            });
+        let mut near = near.peekable();
+        let mut k = 0usize;
+        loop {
+            k += 1;
+            if k.is_multiple_of(CHECK_CANDIDATES) {
                 stop.check()?;
             }
-            let lower = d2.sqrt() * (1.0 - 1e-12) - 1e-6 - ball.radius;
             let cap = best.map_or(limit, |b| b.0).min(limit);
+            let next = match near.peek() {
+                Some(&(lower, i)) if lower <= cap => {
+                    near.next();
+                    if best.is_none() && self.features[i].geometry.indexed() {
+                        deferred.push((lower, i));
+                        continue;
+                    }
+                    (lower, i)
+                }
+                _ => match deferred.pop() {
+                    Some(d) => d,
+                    None => break,
+                },
+            };
+            let (lower, i) = next;
             if lower > cap {
-                break;
+                continue;
             }
-            let i = entry.data as usize;
             let f = &self.features[i].geometry;
             let Some(ft) = &f.tree else { continue };
-            let d = nearest_between(g, tree, f, ft, cap, stop)?;
+            // A small feature nearby: the pairwise search of
+            // distance_within is cheapest; a large or far one (where the
+            // chord bounds are loose): the best-first search.
+            let near_and_small =
+                !f.indexed() && !g.indexed() && f.ball.is_some_and(|fb| fb.gap(&ball) < TIGHT_FROM);
+            let d = if near_and_small {
+                distance_within_interruptible(g, f, cap, stop)?.unwrap_or(f64::INFINITY)
+            } else {
+                let tree = match (&g.tree, &mut own) {
+                    (Some(t), _) => t,
+                    (None, Some(t)) => &*t,
+                    (None, slot) => &*slot.insert(BallTree::build(&g.elements, stop)?),
+                };
+                nearest_between(g, tree, f, ft, cap, stop)?
+            };
             if d <= cap {
                 let better = match best {
                     None => true,
