@@ -15,6 +15,10 @@
 //! `bench_facilities` with a reach of 1 mile inside an urban area and 3
 //! miles outside. One layer holds the parks (0.5 mile) and facilities.
 //! Printed, from one run per size:
+//! - the reached-only sweep (`SELECT count(*), sum(reached)`) on 1 and 2
+//!   threads and a warm bare scan (`sum(length(geom))`), best of three
+//!   each, side by side: sweep / scan (target <= 5) and 1 / 2 threads
+//!   (target >= 1.8);
 //! - sweep (2 threads) / bare scan of the same blob column
 //!   (`SELECT sum(length(geom)) FROM blocks`, and a scan that loads every
 //!   blob, `SELECT max(geom) FROM blocks`) in the same process; target <= 5
@@ -116,6 +120,27 @@ fn run(blocks: usize, dir: &Path) {
         &format!("{BUILD}\n.timer on\nSELECT sum(ambit_reached('access', geom)), sum(ambit_nearest('access', geom)) FROM blocks;"),
     );
     let scalar = times(&outs)[0];
+    // The reached-only sweep (the indicator's question), warm: the bare
+    // scans and the sweep on 1 and 2 threads in one process each, best of
+    // three runs.
+    let reached_only = |threads: &str| -> (f64, f64) {
+        let (out, _, _) = shell(
+            &db,
+            &[("RAYON_NUM_THREADS", threads)],
+            &format!(
+                "{BUILD}\nSELECT sum(length(geom)) FROM blocks;\n.timer on\n\
+                 SELECT sum(length(geom)) FROM blocks;\nSELECT sum(length(geom)) FROM blocks;\nSELECT sum(length(geom)) FROM blocks;\n\
+                 SELECT count(*), sum(reached) FROM ambit_sweep('access', 'SELECT fid, geom FROM blocks');\n\
+                 SELECT count(*), sum(reached) FROM ambit_sweep('access', 'SELECT fid, geom FROM blocks');\n\
+                 SELECT count(*), sum(reached) FROM ambit_sweep('access', 'SELECT fid, geom FROM blocks');"
+            ),
+        );
+        let t = times(&out);
+        let best = |xs: &[f64]| xs.iter().copied().fold(f64::INFINITY, f64::min);
+        (best(&t[0..3]), best(&t[3..6]))
+    };
+    let (warm_scan, reached1) = reached_only("1");
+    let (_, reached2) = reached_only("2");
     let ambit_csv = dir.join(format!("ambit-{blocks}.csv"));
     shell(
         &db,
@@ -156,6 +181,12 @@ fn run(blocks: usize, dir: &Path) {
         "  sweep / bare scan = {:.1} (sum(length)), {:.1} (max(geom))   [target <= 5]",
         sweep2 / scan_len.max(1e-3),
         sweep2 / scan_blob.max(1e-3)
+    );
+    println!(
+        "  reached-only sweep: 1 thread {reached1:.3} s, 2 threads {reached2:.3} s; warm bare scan {warm_scan:.3} s: \
+         sweep (2 threads) / warm scan = {:.1}   [target <= 5]; 1 thread / 2 threads = {:.2}   [target >= 1.8]",
+        reached2 / warm_scan.max(1e-3),
+        reached1 / reached2
     );
     println!(
         "  scalar per row / sweep on 2 threads = {:.2}; sweep 1 thread / 2 threads = {:.2}   [should approach 2 cores]",

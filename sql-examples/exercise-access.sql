@@ -50,6 +50,7 @@ INSERT INTO build_parameters SELECT
   ambit_miles(1)         AS urban_facility_reach_m,
   ambit_miles(3)         AS rural_facility_reach_m,
   20.0                   AS same_facility_within_m,   -- entries of the two lists this close are one place
+  ambit_miles(10)        AS nearest_within_m,         -- nearest_m is stored up to this, NULL beyond
   'blocks'               AS blocks_table,
   'parks'                AS parks_table,
   'rec_sites, fitness_list' AS facility_tables,
@@ -111,7 +112,9 @@ SELECT ambit_layer('exercise', geom, (SELECT park_reach_m FROM build_parameters)
 SELECT ambit_layer('exercise', geom, reach_m, 1000000 + fid) FROM facilities;
 
 -- 5. Every block: within reach or not, and the distance to the nearest
--- opportunity (all cores; progress on stderr in a terminal). Only ids and
+-- opportunity when it is within nearest_within_m (NULL beyond: the search
+-- stops there, which keeps remote blocks cheap; all cores; progress on
+-- stderr in a terminal). Only ids and
 -- results are stored: the block geometries stay in blocks, and the layer
 -- block_access (step 7) is a view that joins them back for a GIS, so the
 -- script's extra storage stays small even for a nation's 8 million blocks.
@@ -127,7 +130,8 @@ CREATE TABLE block_results (
 );
 INSERT INTO block_results (fid, geoid, county_geoid, population, access, nearest_m)
   SELECT b.fid, b.geoid, substr(b.geoid, 1, 5), b.population, s.reached, s.nearest_m
-  FROM ambit_sweep('exercise', 'SELECT fid, geom FROM blocks') AS s
+  FROM ambit_sweep('exercise', 'SELECT fid, geom FROM blocks',
+                   (SELECT nearest_within_m FROM build_parameters)) AS s
   JOIN blocks AS b ON b.fid = s.id;
 CREATE VIEW block_access AS
   SELECT r.fid, r.geoid, r.county_geoid, r.population, r.access, r.nearest_m, b.geom

@@ -96,12 +96,14 @@ fn ctrl_c_stops_a_distance_from_near_the_antipode_of_a_big_polygon() {
 
 #[test]
 fn ctrl_c_stops_a_sweep_inside_a_costly_row() {
-    // Each row here is a point near the antipode of a 200,000-vertex ring:
-    // its nearest distance alone takes seconds, so checking between rows
-    // is not enough; the nearest search reads the stop flag too.
+    // Each row here is a 2-degree square (edges of about 200 km) near the
+    // antipode of a 200,000-vertex ring: its nearest distance alone takes
+    // minutes (253 s measured on 2026-12-02; a point there takes 0.1 s
+    // since the best-first search), so checking between rows is not
+    // enough; the nearest search reads the stop flag too.
     let sql = format!("{BIG_RING}SELECT ambit_layer('forest', geom, '0.5 mi', 1) FROM big;
 SELECT count(*), sum(nearest_m) FROM ambit_sweep('forest',
-  'SELECT n, ST_Point(80 + n * 0.01, -40) FROM (SELECT 1 AS n UNION ALL SELECT 2 UNION ALL SELECT 3 UNION ALL SELECT 4)');");
+  'SELECT n, ST_GeomFromText(''POLYGON ((79 -41, 81 -41, 81 -39, 79 -39, 79 -41))'') FROM (SELECT 1 AS n UNION ALL SELECT 2 UNION ALL SELECT 3 UNION ALL SELECT 4)');");
     let (took, stderr) = interrupt_after(&sql, Duration::from_millis(3000));
     eprintln!("sweep of costly rows stopped {took:?} after SIGINT");
     assert!(stderr.contains("interrupt"), "{stderr}");

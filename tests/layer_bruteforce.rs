@@ -228,7 +228,7 @@ fn a_200000_vertex_polygon_is_indexed_and_answers_exactly() {
     pts.push(pts[0].clone());
     let big = feature(1, &format!("POLYGON (({}))", pts.join(", ")), 804.672);
     assert!(
-        big.geometry.index.is_some(),
+        big.geometry.indexed(),
         "large polygons get an element index"
     );
     let layer = Layer::new(vec![big]);
@@ -254,4 +254,88 @@ fn empty_blocks_reach_nothing() {
     assert_eq!(layer.count(&empty, None), 0);
     assert!(layer.near(&empty, None).is_empty());
     assert_eq!(layer.nearest(&empty, None), None);
+}
+
+/// An edge: its two ends (lon, lat).
+type Edge = ((f64, f64), (f64, f64));
+
+/// The edges of a closed ring given as WKT coordinates "x y, x y, ...".
+fn ring_edges(text: &str) -> Vec<Edge> {
+    let pts: Vec<(f64, f64)> = text
+        .trim_matches(|c| c == '(' || c == ')')
+        .split(", ")
+        .map(|p| {
+            let mut xy = p.split(' ').map(|v| v.parse::<f64>().unwrap());
+            (xy.next().unwrap(), xy.next().unwrap())
+        })
+        .collect();
+    pts.windows(2).map(|w| (w[0], w[1])).collect()
+}
+
+/// Far from every feature (50 km to 2,500 km), the best-first nearest
+/// search gives the same number as the exact distance of every feature
+/// (ambit::proximity::distance, bit for bit), and as brute force over all
+/// edge pairs with the exact edge-to-edge distance
+/// (ambit::geodesy::segment::segment_segment_distance, itself checked
+/// against dense sampling with geographiclib-rs in
+/// tests/geodesy_bruteforce.rs); the blocks lie outside every feature, so
+/// no containment is involved (checked: the distances are positive).
+#[test]
+fn far_blocks_get_the_exact_nearest_distance() {
+    use ambit::geodesy::segment::segment_segment_distance;
+    let mut rng = XorShift(0x5eed_0010);
+    // A wiggly ring of 3,000 vertices about 2 degrees across, and small
+    // parks scattered 3-6 degrees east of it.
+    let big_ring = ring(&mut rng, (-100.0, 40.0), 3000, 1.0);
+    let mut texts = vec![format!("POLYGON ({big_ring})")];
+    for _ in 0..40 {
+        let c = (rng.uniform(-96.0, -93.0), rng.uniform(36.0, 44.0));
+        texts.push(format!("POLYGON ({})", ring(&mut rng, c, 12, 0.004)));
+    }
+    let features: Vec<Feature> = texts
+        .iter()
+        .enumerate()
+        .map(|(i, t)| feature(i as i64 + 1, t, 800.0))
+        .collect();
+    let layer = Layer::new(features);
+    let edges: Vec<Vec<Edge>> = texts
+        .iter()
+        .map(|t| ring_edges(t.trim_start_matches("POLYGON ")))
+        .collect();
+    for k in 0..12 {
+        // Blocks north-west of everything, 0.5 to 22 degrees away.
+        let far = 0.5 + 2.0 * k as f64;
+        let c = (-104.0 - far * 0.5, 42.0 + far * 0.8);
+        let block_ring = ring(&mut rng, c, 10, 0.0015);
+        let block = prepare(&format!("POLYGON ({block_ring})"));
+        let by_feature = layer
+            .features()
+            .iter()
+            .map(|f| distance(&block, &f.geometry).unwrap())
+            .fold(f64::INFINITY, f64::min);
+        let got = layer.nearest(&block, None).unwrap();
+        assert_eq!(got, by_feature, "block {k} at {c:?}");
+        assert!(got > 0.0);
+        let block_edges = ring_edges(&block_ring);
+        let brute = edges
+            .iter()
+            .flatten()
+            .flat_map(|&(b1, b2)| {
+                block_edges
+                    .iter()
+                    .map(move |&(a1, a2)| segment_segment_distance(a1, a2, b1, b2))
+            })
+            .fold(f64::INFINITY, f64::min);
+        assert!(
+            (got - brute).abs() <= 1e-6,
+            "block {k}: nearest {got} vs brute force {brute}"
+        );
+        // A cap just below the distance gives none; at it, the distance.
+        assert_eq!(layer.nearest(&block, Some(got * (1.0 - 1e-9))), None);
+        assert_eq!(layer.nearest(&block, Some(got)), Some(got));
+        assert_eq!(
+            layer.reached_and_nearest(&block, Some(got)),
+            (false, Some(got))
+        );
+    }
 }

@@ -94,7 +94,7 @@ pub fn point_in_prepared(p: LonLat, g: &Prepared) -> bool {
     if g.polygons.is_empty() {
         return false;
     }
-    if g.index.is_none() {
+    if !g.indexed() {
         // Small geometries: walk the rings directly, allocating nothing.
         return g
             .polygons
@@ -121,7 +121,7 @@ pub fn point_in_prepared(p: LonLat, g: &Prepared) -> bool {
         lat_hi: 90.0,
     };
     for i in g.elements_near(&ray) {
-        if let (Some(owner), Element::Edge(a, b)) = (g.owners[i], g.elements[i].0) {
+        if let (Some(owner), Element::Edge(a, b)) = (g.owner(i), g.elements[i].0) {
             if meridian_crosses(p, a, b) {
                 let flag = &mut parity[owner.polygon as usize][owner.ring as usize];
                 *flag = !*flag;

@@ -29,6 +29,7 @@ use std::ops::ControlFlow;
 use crate::error::GeomError;
 use crate::geodesy::{inverse, local, segment};
 use crate::interrupt::{Interrupt, Never};
+use crate::proximity::balltree::{tight_gap, BallTree, Node};
 use crate::proximity::boxes::LonLatBox;
 use crate::proximity::contain::point_in_prepared;
 use crate::proximity::prepared::{arc_upper, distance_upper, Ball, Element, LonLat, Prepared};
@@ -113,9 +114,10 @@ fn probes_inside(a: &Prepared, b: &Prepared, work: &mut Work) -> bool {
 /// ball is `other`: through `x`'s element index when it has one, then by
 /// each element's ball.
 fn elements_near(x: &Prepared, other: &Ball, cap: f64) -> Vec<usize> {
-    let near = match &x.index {
-        Some(_) if cap.is_finite() => x.elements_near(&LonLatBox::around(other, cap)),
-        _ => (0..x.elements.len()).collect(),
+    let near = if x.indexed() && cap.is_finite() {
+        x.elements_near(&LonLatBox::around(other, cap))
+    } else {
+        (0..x.elements.len()).collect()
     };
     near.into_iter()
         .filter(|&i| x.elements[i].1.gap(other) <= cap)
@@ -143,7 +145,7 @@ fn for_each_candidate(
     } else {
         (&near_a, a, &near_b, b)
     };
-    let indexed = large_geometry.index.is_some() && cap.is_finite() && large_near.len() > 256;
+    let indexed = large_geometry.indexed() && cap.is_finite() && large_near.len() > 256;
     for &i in small {
         let found;
         let js: &[usize] = if indexed {
@@ -287,6 +289,170 @@ fn search(
         }
     }
     // No pair had a lower bound within `cap`: the minimum is above it.
+    Ok(best_exact)
+}
+
+/// One pair of nodes waiting in [`nearest_between`]'s queue, keyed by a
+/// lower bound on the distance between them (`tight` once
+/// [`tight_gap`] has been asked).
+#[derive(Clone, Copy, Debug)]
+struct Pending {
+    key: f64,
+    tight: bool,
+    a: Node,
+    b: Node,
+}
+
+impl PartialEq for Pending {
+    fn eq(&self, other: &Self) -> bool {
+        self.key.total_cmp(&other.key).is_eq()
+    }
+}
+impl Eq for Pending {}
+impl PartialOrd for Pending {
+    fn partial_cmp(&self, other: &Self) -> Option<std::cmp::Ordering> {
+        Some(self.cmp(other))
+    }
+}
+impl Ord for Pending {
+    /// Reversed, so that `BinaryHeap` pops the least key first.
+    fn cmp(&self, other: &Self) -> std::cmp::Ordering {
+        other.key.total_cmp(&self.key)
+    }
+}
+
+/// Nodes popped between two questions to the interrupt.
+const POPS_PER_CHECK: u32 = 4096;
+
+/// The minimum distance between `a` and `b` when it is at most `cap`, by a
+/// best-first search over both geometries' ball trees
+/// ([`crate::proximity::balltree`]; `ta` and `tb`, built over `a`'s and
+/// `b`'s elements). A result above `cap` means the minimum is above `cap`
+/// (the value itself is then only a bound). The same answer as
+/// [`distance_within_interruptible`]: containment is probed the same way,
+/// and the element pair that attains the minimum is always computed by the
+/// same exact method, because a pair of nodes is dropped only when a
+/// rigorous lower bound on its distance exceeds the best exact distance
+/// found (or an upper bound on the minimum, or `cap`).
+///
+/// Cost: node pairs are taken in order of their lower bounds (Karney's
+/// distance between ball centres more than 20 km apart, the chord closer),
+/// so far from a large feature only the elements whose lower bound falls
+/// within a few ball radii of the minimum are looked at: milliseconds for
+/// a block 700 km from a polygon of 400,000 vertices. Near the antipode of
+/// a feature every element is at nearly the same distance and most are
+/// looked at, as in any search by distance bounds.
+///
+/// Asks `stop` every 64 exact element distances and every 4096 node pairs.
+pub fn nearest_between(
+    a: &Prepared,
+    ta: &BallTree,
+    b: &Prepared,
+    tb: &BallTree,
+    cap: f64,
+    stop: &dyn Interrupt,
+) -> Result<f64, GeomError> {
+    let (Some(ball_a), Some(ball_b)) = (a.ball, b.ball) else {
+        return Ok(f64::INFINITY);
+    };
+    let gap = ball_a.gap(&ball_b);
+    if gap > cap {
+        return Ok(gap);
+    }
+    let mut work = Work::default();
+    if gap <= 0.0 && (probes_inside(a, b, &mut work) || probes_inside(b, a, &mut work)) {
+        return Ok(0.0);
+    }
+    let (Some(root_a), Some(root_b)) = (ta.root(), tb.root()) else {
+        return Ok(f64::INFINITY);
+    };
+    let mut queue = std::collections::BinaryHeap::new();
+    let key = ta
+        .ball(root_a, &a.elements)
+        .gap(tb.ball(root_b, &b.elements));
+    queue.push(Pending {
+        key,
+        tight: false,
+        a: root_a,
+        b: root_b,
+    });
+    let mut best_exact = f64::INFINITY;
+    let mut upper = f64::INFINITY;
+    let (mut exact_since_check, mut pops) = (0u32, 0u32);
+    while let Some(item) = queue.pop() {
+        let bound = best_exact.min(upper).min(cap);
+        if item.key > bound {
+            break;
+        }
+        pops += 1;
+        if pops == POPS_PER_CHECK {
+            pops = 0;
+            stop.check()?;
+        }
+        let (ba, bb) = (ta.ball(item.a, &a.elements), tb.ball(item.b, &b.elements));
+        if !item.tight {
+            let key = tight_gap(ba, bb, item.key);
+            if key > bound {
+                continue;
+            }
+            if queue.peek().is_some_and(|next| next.key < key) {
+                queue.push(Pending {
+                    key,
+                    tight: true,
+                    ..item
+                });
+                continue;
+            }
+        }
+        if item.a.level == 0 && item.b.level == 0 {
+            let (i, j) = (item.a.index as usize, item.b.index as usize);
+            let (ea, eb) = (&a.elements[i].0, &b.elements[j].0);
+            let (flat_lo, flat_up) = flat_bounds(ea, eb);
+            upper = upper.min(flat_up);
+            if flat_lo > best_exact.min(upper).min(cap) {
+                continue;
+            }
+            exact_since_check += 1;
+            if exact_since_check == EXACT_PER_CHECK {
+                exact_since_check = 0;
+                stop.check()?;
+            }
+            best_exact = best_exact.min(exact(ea, eb));
+            if best_exact == 0.0 {
+                break;
+            }
+            continue;
+        }
+        // Any point of one node is within these of any point of the other.
+        upper = upper.min(arc_upper(&ba.xyz, &bb.xyz) + ba.radius + bb.radius);
+        let split_b = item.a.level == 0 || (item.b.level != 0 && bb.radius >= ba.radius);
+        let bound = best_exact.min(upper).min(cap);
+        if split_b {
+            for c in tb.children(item.b) {
+                let key = ba.gap(tb.ball(c, &b.elements));
+                if key <= bound {
+                    queue.push(Pending {
+                        key,
+                        tight: false,
+                        a: item.a,
+                        b: c,
+                    });
+                }
+            }
+        } else {
+            for c in ta.children(item.a) {
+                let key = ta.ball(c, &a.elements).gap(bb);
+                if key <= bound {
+                    queue.push(Pending {
+                        key,
+                        tight: false,
+                        a: c,
+                        b: item.b,
+                    });
+                }
+            }
+        }
+    }
     Ok(best_exact)
 }
 

@@ -19,10 +19,12 @@ use crate::error::GeomError;
 use crate::geometry::Geometry;
 use crate::interrupt::{Interrupt, Never};
 use crate::memory;
+use crate::proximity::balltree::{space_box, BallTree, TIGHT_FROM};
+use crate::proximity::boxes::LonLatBox;
 use crate::proximity::distance::{
-    distance_within, distance_within_interruptible, within, within_interruptible,
+    distance_within, distance_within_interruptible, nearest_between, within, within_interruptible,
 };
-use crate::proximity::prepared::{tree_bytes, wrap_delta, Prepared};
+use crate::proximity::prepared::{tree_bytes, wrap_delta, Ball, Prepared};
 use crate::proximity::share::{coverage_share, ShareError};
 
 /// Features indexed between two interrupt checks.
@@ -61,11 +63,13 @@ impl Feature {
         g: &Geometry,
         stop: &dyn Interrupt,
     ) -> Result<Feature, GeomError> {
+        let mut geometry = Prepared::build(g, stop)?;
+        geometry.add_ball_tree(stop)?;
         Ok(Feature {
             id,
             reach,
             vertices: g.vertex_count(),
-            geometry: Prepared::build(g, stop)?,
+            geometry,
         })
     }
 
@@ -78,14 +82,26 @@ impl Feature {
                     crate::proximity::prepared::Element,
                     crate::proximity::prepared::Ball,
                 )>()
-            + g.owners.capacity()
-                * std::mem::size_of::<Option<crate::proximity::prepared::RingRef>>()
-            + self.vertices * 16 * 2
-            + g.index.as_ref().map_or(0, |t| t.size() * 48)
+            + g.ring_starts.capacity()
+                * std::mem::size_of::<(u32, crate::proximity::prepared::RingRef)>()
+            + g.points.capacity() * std::mem::size_of::<crate::proximity::prepared::LonLat>()
+            + g.lines
+                .iter()
+                .chain(g.polygons.iter().flatten())
+                .map(|c| {
+                    c.capacity() * std::mem::size_of::<crate::proximity::prepared::LonLat>()
+                        + std::mem::size_of::<Vec<crate::proximity::prepared::LonLat>>()
+                })
+                .sum::<usize>()
+            + g.tree.as_ref().map_or(0, BallTree::bytes)
     }
 }
 
 type Entry = GeomWithData<Rectangle<[f64; 2]>, u32>;
+
+/// An entry of the nearest-search index: a feature's box in Earth-centred
+/// coordinates ([`space_box`]) and its position.
+type SpaceEntry = GeomWithData<Rectangle<[f64; 3]>, u32>;
 
 /// The extent of a layer's vertices in degrees: `west` and `east` in
 /// [-180, 180], `south` and `north` in [-90, 90]. `west > east` when the
@@ -104,6 +120,8 @@ pub struct Extent {
 pub struct Layer {
     features: Vec<Feature>,
     tree: RTree<Entry>,
+    /// The features' Earth-centred boxes, for the nearest search.
+    space: RTree<SpaceEntry>,
     /// True when some feature's box was split at the antimeridian.
     split_boxes: bool,
     /// The feature ids, sorted.
@@ -117,6 +135,7 @@ pub struct Layer {
 #[derive(Debug)]
 pub struct LayerIndex {
     tree: RTree<Entry>,
+    space: RTree<SpaceEntry>,
     split_boxes: bool,
     ids: Vec<i64>,
     extent: Option<Extent>,
@@ -129,6 +148,7 @@ pub struct LayerIndex {
 #[derive(Debug)]
 pub struct IndexInput {
     entries: Vec<Entry>,
+    space: Vec<SpaceEntry>,
     split_boxes: bool,
     ids: Vec<i64>,
     extent: Option<Extent>,
@@ -140,6 +160,7 @@ impl IndexInput {
     pub fn load(self) -> LayerIndex {
         LayerIndex {
             tree: RTree::bulk_load(self.entries),
+            space: RTree::bulk_load(self.space),
             split_boxes: self.split_boxes,
             ids: self.ids,
             extent: self.extent,
@@ -394,6 +415,7 @@ impl Layer {
     ) -> Result<IndexInput, GeomError> {
         let len = base.len() + added.len();
         let mut entries: Vec<Entry> = memory::vec_with_capacity(len)?;
+        let mut space: Vec<SpaceEntry> = memory::vec_with_capacity(len)?;
         let mut with_box = 0;
         let mut extent = ExtentSum::default();
         for (i, f) in base.iter().chain(added).enumerate() {
@@ -401,6 +423,12 @@ impl Layer {
                 stop.check()?;
             }
             extent.add(&f.geometry);
+            if let Some(b) = space_box(&f.geometry.elements) {
+                space.push(GeomWithData::new(
+                    Rectangle::from_corners([b[0], b[1], b[2]], [b[3], b[4], b[5]]),
+                    i as u32,
+                ));
+            }
             let Some(b) = f.geometry.bbox else { continue };
             with_box += 1;
             for r in b.grown(f.reach).normalised() {
@@ -409,10 +437,14 @@ impl Layer {
             }
         }
         stop.check()?;
-        memory::probe(tree_bytes(entries.len(), std::mem::size_of::<Entry>()))?;
+        memory::probe(
+            tree_bytes(entries.len(), std::mem::size_of::<Entry>())
+                + tree_bytes(space.len(), std::mem::size_of::<SpaceEntry>()),
+        )?;
         Ok(IndexInput {
             split_boxes: entries.len() > with_box,
             entries,
+            space,
             ids,
             extent: extent.extent(),
             len,
@@ -421,11 +453,20 @@ impl Layer {
 
     /// The layer of `index` and its `features` (the `base` features of
     /// [`Layer::index`] followed by the `added` ones).
-    pub fn assemble(index: LayerIndex, features: Vec<Feature>) -> Layer {
+    /// Features made without [`Feature::build`] get their ball tree here.
+    pub fn assemble(index: LayerIndex, mut features: Vec<Feature>) -> Layer {
         debug_assert_eq!(index.len, features.len());
+        for f in &mut features {
+            if f.geometry.tree.is_none() {
+                f.geometry
+                    .add_ball_tree(&Never)
+                    .unwrap_or_else(|e| panic!("indexing a feature: {e}"));
+            }
+        }
         Layer {
             features,
             tree: index.tree,
+            space: index.space,
             split_boxes: index.split_boxes,
             ids: index.ids,
             extent: index.extent,
@@ -454,6 +495,7 @@ impl Layer {
             self.features,
             LayerIndex {
                 tree: self.tree,
+                space: self.space,
                 split_boxes: self.split_boxes,
                 ids: self.ids,
                 extent: self.extent,
@@ -471,7 +513,28 @@ impl Layer {
     pub fn bytes(&self) -> usize {
         self.features.iter().map(Feature::bytes).sum::<usize>()
             + self.tree.size() * 48
+            + self.space.size() * 64
             + self.ids.capacity() * std::mem::size_of::<i64>()
+    }
+
+    /// False when no feature's reach-grown box meets `b`: then no feature
+    /// lies within its reach of any geometry inside `b` (the index never
+    /// loses a candidate), so such a geometry is not reached. Lets the
+    /// sweep skip preparing a geometry from its
+    /// [`crate::proximity::boxes::envelope`] alone.
+    /// With `ball` (a ball holding `b`), candidates whose own ball is
+    /// farther from it than their reach ([`Ball::gap`], a lower bound on
+    /// the distance) are not counted either.
+    pub fn may_reach(&self, b: &LonLatBox, ball: Option<&Ball>) -> bool {
+        b.normalised().iter().any(|q| {
+            self.tree.locate_in_envelope_intersecting(*q).any(|e| {
+                match (ball, self.features[e.data as usize].geometry.ball) {
+                    (None, _) => true,
+                    (Some(g), Some(f)) => g.gap(&f) <= self.features[e.data as usize].reach,
+                    (Some(_), None) => false,
+                }
+            })
+        })
     }
 
     /// Features whose reach-grown boxes meet `g`'s box grown by `grow_m`,
@@ -603,92 +666,101 @@ impl Layer {
 
     /// The distance in metres from `g` to the nearest feature (reach plays
     /// no part), or `None` when there is none within `max_m` (or the layer
-    /// or `g` is empty). The search widens from 1 km by factors of 4 until
-    /// a feature is found.
+    /// or `g` is empty). See [`Layer::nearest_search`] for the method; its
+    /// cost grows with the number of elements whose lower bound falls near
+    /// the minimum, not with the distance.
     pub fn nearest(&self, g: &Prepared, max_m: Option<f64>) -> Option<f64> {
         self.nearest_until(g, max_m, &Never).unwrap_or(None)
     }
 
-    /// [`Layer::nearest`], reading `stop` between candidates (every
-    /// [`CHECK_CANDIDATES`]) and between rounds of the widening search:
-    /// `Err(GeomError::Interrupted)` when asked to stop. Far from every
-    /// feature of a large layer the last rounds look at every feature.
+    /// [`Layer::nearest`], reading `stop` as the search goes:
+    /// `Err(GeomError::Interrupted)` when asked to stop.
     pub fn nearest_until(
         &self,
         g: &Prepared,
         max_m: Option<f64>,
         stop: &dyn Interrupt,
     ) -> Result<Option<f64>, GeomError> {
-        Ok(self
-            .nearest_search(g, max_m, &mut None, stop)?
-            .map(|(d, _)| d))
+        Ok(self.nearest_search(g, max_m, stop)?.map(|(d, _)| d))
     }
 
-    /// The nearest feature within `max_m`, widening from 1 km by factors of
-    /// 4; `first_candidates` receives the candidates of the first (1 km)
-    /// round, which include every feature whose reach-grown box meets
-    /// `g`'s box.
+    /// The nearest feature within `max_m` and its distance (the first
+    /// added among equally near ones). Best first: features come from the
+    /// Earth-centred index in order of the chord from `g`'s ball centre to
+    /// their boxes, which less `g`'s radius is a lower bound on their
+    /// distance (a chord never exceeds the geodesic); the search stops when
+    /// that bound exceeds the best distance found or `max_m`. Each feature
+    /// is searched by [`nearest_between`] only up to the best distance found
+    /// so far. The order changes the work done, never the answer.
     fn nearest_search(
         &self,
         g: &Prepared,
         max_m: Option<f64>,
-        first_candidates: &mut Option<Vec<usize>>,
         stop: &dyn Interrupt,
     ) -> Result<Option<(f64, usize)>, GeomError> {
         let Some(ball) = g.ball else {
             return Ok(None);
         };
         let limit = max_m.unwrap_or(MAX_SEPARATION).min(MAX_SEPARATION);
-        let mut radius = limit.min(1000.0);
-        loop {
-            stop.check()?;
-            let candidates = self.candidates(g, radius);
-            let best = self.best_first(g, &ball, &candidates, radius, stop)?;
-            if first_candidates.is_none() {
-                *first_candidates = Some(candidates);
-            }
-            if best.is_some() || radius >= limit {
-                return Ok(best);
-            }
-            radius = (radius * 4.0).min(limit);
-        }
-    }
-
-    /// The nearest of `candidates` within `radius` of `g` (the first added
-    /// among equally near ones). Best first: candidates by the lower bound
-    /// their balls give, each searched only up to the best distance found
-    /// so far; small features first, so that a large one (with an element
-    /// index) is searched only up to a distance already found. The order
-    /// changes the work done, never the answer.
-    fn best_first(
-        &self,
-        g: &Prepared,
-        ball: &crate::proximity::prepared::Ball,
-        candidates: &[usize],
-        radius: f64,
-        stop: &dyn Interrupt,
-    ) -> Result<Option<(f64, usize)>, GeomError> {
-        let mut ranked: Vec<(bool, f64, usize)> = candidates
-            .iter()
-            .filter_map(|&i| {
-                let f = &self.features[i].geometry;
-                let fb = f.ball?;
-                Some((f.index.is_some(), ball.gap(&fb).max(0.0), i))
-            })
-            .collect();
-        ranked.sort_unstable_by(|x, y| x.0.cmp(&y.0).then(x.1.total_cmp(&y.1)).then(x.2.cmp(&y.2)));
+        // g's ball tree, built when first needed.
+        let mut own: Option<BallTree> = None;
         let mut best: Option<(f64, usize)> = None;
-        for (k, (_, lower, i)) in ranked.into_iter().enumerate() {
-            if k % CHECK_CANDIDATES == CHECK_CANDIDATES - 1 {
+        // Large features met before any distance is known wait until the
+        // small ones near them have given one (their search is then capped).
+        let mut deferred: Vec<(f64, usize)> = Vec::new();
+        let near = self
+            .space
+            .nearest_neighbor_iter_with_distance_2(ball.xyz)
+            .map(|(entry, d2)| {
+                (
+                    d2.sqrt() * (1.0 - 1e-12) - 1e-6 - ball.radius,
+                    entry.data as usize,
+                )
+            });
+        let mut near = near.peekable();
+        let mut k = 0usize;
+        loop {
+            k += 1;
+            if k.is_multiple_of(CHECK_CANDIDATES) {
                 stop.check()?;
             }
-            let cap = best.map_or(radius, |b| b.0).min(radius);
+            let cap = best.map_or(limit, |b| b.0).min(limit);
+            let next = match near.peek() {
+                Some(&(lower, i)) if lower <= cap => {
+                    near.next();
+                    if best.is_none() && self.features[i].geometry.indexed() {
+                        deferred.push((lower, i));
+                        continue;
+                    }
+                    (lower, i)
+                }
+                _ => match deferred.pop() {
+                    Some(d) => d,
+                    None => break,
+                },
+            };
+            let (lower, i) = next;
             if lower > cap {
                 continue;
             }
-            if let Some(d) =
-                distance_within_interruptible(g, &self.features[i].geometry, cap, stop)?
-            {
+            let f = &self.features[i].geometry;
+            let Some(ft) = &f.tree else { continue };
+            // A small feature nearby: the pairwise search of
+            // distance_within is cheapest; a large or far one (where the
+            // chord bounds are loose): the best-first search.
+            let near_and_small =
+                !f.indexed() && !g.indexed() && f.ball.is_some_and(|fb| fb.gap(&ball) < TIGHT_FROM);
+            let d = if near_and_small {
+                distance_within_interruptible(g, f, cap, stop)?.unwrap_or(f64::INFINITY)
+            } else {
+                let tree = match (&g.tree, &mut own) {
+                    (Some(t), _) => t,
+                    (None, Some(t)) => &*t,
+                    (None, slot) => &*slot.insert(BallTree::build(&g.elements, stop)?),
+                };
+                nearest_between(g, tree, f, ft, cap, stop)?
+            };
+            if d <= cap {
                 let better = match best {
                     None => true,
                     Some((b, j)) => d < b || (d == b && i < j),
@@ -701,13 +773,12 @@ impl Layer {
         Ok(best)
     }
 
-    /// `reached` and `nearest` at once, as the sweep reports them: when
-    /// the nearest feature is within its own reach, `g` is reached without
-    /// a second search; otherwise the candidates of the nearest search's
-    /// first round (a superset of those `reached` would look at) are
-    /// tested.
-    pub fn reached_and_nearest(&self, g: &Prepared) -> (bool, Option<f64>) {
-        self.reached_and_nearest_until(g, &Never)
+    /// `reached` and `nearest` (within `max_m` when given) at once, as the
+    /// sweep reports them: when the nearest feature is within its own
+    /// reach, `g` is reached without a second search; otherwise the reach
+    /// test of [`Layer::reached`] runs.
+    pub fn reached_and_nearest(&self, g: &Prepared, max_m: Option<f64>) -> (bool, Option<f64>) {
+        self.reached_and_nearest_until(g, max_m, &Never)
             .unwrap_or((false, None))
     }
 
@@ -717,26 +788,13 @@ impl Layer {
     pub fn reached_and_nearest_until(
         &self,
         g: &Prepared,
+        max_m: Option<f64>,
         stop: &dyn Interrupt,
     ) -> Result<(bool, Option<f64>), GeomError> {
-        let mut first = None;
-        let nearest = self.nearest_search(g, None, &mut first, stop)?;
+        let nearest = self.nearest_search(g, max_m, stop)?;
         let reached = match nearest {
             Some((d, i)) if d <= self.features[i].reach => true,
-            _ => {
-                let mut any = false;
-                for (k, i) in first.unwrap_or_default().into_iter().enumerate() {
-                    if k % CHECK_CANDIDATES == CHECK_CANDIDATES - 1 {
-                        stop.check()?;
-                    }
-                    let f = &self.features[i];
-                    if within_interruptible(g, &f.geometry, f.reach, stop)? {
-                        any = true;
-                        break;
-                    }
-                }
-                any
-            }
+            _ => self.reached_until(g, stop)?,
         };
         Ok((reached, nearest.map(|(d, _)| d)))
     }

@@ -2,6 +2,7 @@
 //! with bounding balls ([`prepared`]), point in polygon with geodesic edges
 //! ([`contain`]), and minimum distance / within-distance ([`mod@distance`]).
 
+pub mod balltree;
 pub mod boxes;
 pub mod contain;
 pub mod distance;

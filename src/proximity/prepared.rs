@@ -17,14 +17,12 @@
 //! (triangle inequality), so a pair whose lower bound exceeds the distance
 //! asked about is skipped without an exact computation.
 
-use rstar::primitives::{GeomWithData, Rectangle};
-use rstar::{RTree, AABB};
-
 use crate::error::GeomError;
 use crate::geodesy::{inverse, local};
 use crate::geometry::{Geometry, Shape};
 use crate::interrupt::{Interrupt, Never};
 use crate::memory;
+use crate::proximity::balltree::BallTree;
 use crate::proximity::boxes::LonLatBox;
 
 /// A (longitude, latitude) pair in degrees.
@@ -176,9 +174,6 @@ pub enum Element {
 /// elements, so that a query near one part does not scan all its edges.
 pub const ELEMENT_INDEX_MIN: usize = 128;
 
-/// An R*-tree entry: an element's box and its position in `elements`.
-pub type IndexEntry = GeomWithData<Rectangle<[f64; 2]>, u32>;
-
 /// Which polygon and ring an edge belongs to.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub struct RingRef {
@@ -200,18 +195,18 @@ pub struct Prepared {
     pub north_pole_rings: Vec<Vec<bool>>,
     /// Every element with its ball.
     pub elements: Vec<(Element, Ball)>,
-    /// For each element, the ring it bounds (`None` for points and line
-    /// edges).
-    pub owners: Vec<Option<RingRef>>,
+    /// Where each ring's edges begin in `elements`, in order, with the
+    /// ring ([`Prepared::owner`] reads it).
+    pub ring_starts: Vec<(u32, RingRef)>,
     /// A ball around the whole geometry (`None` when empty).
     pub ball: Option<Ball>,
     /// A box around the whole geometry, unwrapped (`None` when empty).
     pub bbox: Option<LonLatBox>,
-    /// The element index of a large geometry.
-    pub index: Option<RTree<IndexEntry>>,
-    /// True when some element's box was split at the antimeridian (stored
-    /// twice in the index).
-    pub split_boxes: bool,
+    /// The hierarchy of balls over the elements: the element index of a
+    /// geometry of more than [`ELEMENT_INDEX_MIN`] elements, and for
+    /// best-first nearest searches ([`Prepared::add_ball_tree`]; layer
+    /// features always have one).
+    pub tree: Option<BallTree>,
 }
 
 /// The (lon, lat) pairs of an interleaved part (a closed ring when
@@ -310,14 +305,19 @@ impl Prepared {
         let n = g.vertex_count();
         let per_vertex = std::mem::size_of::<LonLat>()
             + std::mem::size_of::<(Element, Ball)>()
-            + std::mem::size_of::<Option<RingRef>>()
             + std::mem::size_of::<[f64; 3]>();
-        let tree = if n > ELEMENT_INDEX_MIN {
-            tree_bytes(n, std::mem::size_of::<IndexEntry>())
-        } else {
-            0
-        };
-        std::mem::size_of::<Prepared>() + n.saturating_mul(per_vertex) + tree
+        std::mem::size_of::<Prepared>()
+            + n.saturating_mul(per_vertex)
+            + BallTree::estimated_bytes(n)
+    }
+
+    /// Builds [`Prepared::tree`] if it is missing (see
+    /// [`BallTree::build`] for `stop` and the errors).
+    pub fn add_ball_tree(&mut self, stop: &dyn Interrupt) -> Result<(), GeomError> {
+        if self.tree.is_none() {
+            self.tree = Some(BallTree::build(&self.elements, stop)?);
+        }
+        Ok(())
     }
 
     fn add(&mut self, g: &Geometry) -> Result<(), GeomError> {
@@ -377,11 +377,10 @@ impl Prepared {
             .sum::<usize>();
         let total = self.points.len() + chains;
         let mut elements = memory::vec_with_capacity(total)?;
-        let mut owners = memory::vec_with_capacity(total)?;
         for &p in &self.points {
             elements.push((Element::Point(p), Ball::point(p)));
-            owners.push(None);
         }
+        let mut ring_starts = Vec::new();
         let mut xyz: Vec<[f64; 3]> = Vec::new();
         let mut edges =
             |chain: &[LonLat], out: &mut Vec<(Element, Ball)>| -> Result<(), GeomError> {
@@ -402,20 +401,20 @@ impl Prepared {
             };
         for line in &self.lines {
             edges(line, &mut elements)?;
-            owners.resize(elements.len(), None);
         }
         for (pi, rings) in self.polygons.iter().enumerate() {
             let mut flags = Vec::with_capacity(rings.len());
             for (ri, ring) in rings.iter().enumerate() {
                 flags.push(crate::proximity::contain::encloses_north_pole(ring));
-                edges(ring, &mut elements)?;
-                owners.resize(
-                    elements.len(),
-                    Some(RingRef {
+                memory::reserve_one(&mut ring_starts)?;
+                ring_starts.push((
+                    elements.len() as u32,
+                    RingRef {
                         polygon: pi as u32,
                         ring: ri as u32,
-                    }),
-                );
+                    },
+                ));
+                edges(ring, &mut elements)?;
             }
             self.north_pole_rings.push(flags);
         }
@@ -424,48 +423,40 @@ impl Prepared {
         self.ball = whole_ball(&elements);
         self.bbox = bounding_box(&elements).map(|b| self.with_enclosed_poles(b));
         if elements.len() > ELEMENT_INDEX_MIN {
-            // At most two boxes per element (split at the antimeridian).
-            let mut entries: Vec<IndexEntry> = memory::vec_with_capacity(elements.len())?;
-            for (i, (_, b)) in elements.iter().enumerate() {
-                if i % CHECK_EVERY == CHECK_EVERY - 1 {
-                    stop.check()?;
-                }
-                for r in LonLatBox::around(b, 0.0).normalised() {
-                    memory::reserve_one(&mut entries)?;
-                    entries.push(entry(r, i as u32));
-                }
-            }
-            stop.check()?;
-            self.split_boxes = entries.len() > elements.len();
-            memory::probe(tree_bytes(entries.len(), std::mem::size_of::<IndexEntry>()))?;
-            self.index = Some(RTree::bulk_load(entries));
+            self.tree = Some(BallTree::build(&elements, stop)?);
         }
         self.elements = elements;
-        self.owners = owners;
+        self.ring_starts = ring_starts;
         Ok(())
+    }
+
+    /// The ring element `i` bounds (`None` for points and line edges).
+    pub fn owner(&self, i: usize) -> Option<RingRef> {
+        let k = self
+            .ring_starts
+            .partition_point(|&(start, _)| start as usize <= i);
+        (k > 0).then(|| self.ring_starts[k - 1].1)
     }
 
     /// Positions in `elements` of the elements whose boxes meet `query`
     /// (all of them when the geometry has no index). May repeat none.
     pub fn elements_near(&self, query: &LonLatBox) -> Vec<usize> {
-        match &self.index {
-            None => (0..self.elements.len()).collect(),
-            Some(tree) => {
-                let queries = query.normalised();
-                let mut found: Vec<usize> = queries
-                    .iter()
-                    .flat_map(|q| tree.locate_in_envelope_intersecting(*q))
-                    .map(|e| e.data as usize)
-                    .collect();
-                // An element appears twice only if its box was split and
-                // the query met both halves.
-                if self.split_boxes || queries.len() > 1 {
-                    found.sort_unstable();
-                    found.dedup();
-                }
+        match &self.tree {
+            Some(tree) if self.indexed() => {
+                let (parts, n) = query.normalised_parts();
+                let mut found = Vec::new();
+                tree.elements_meeting(&self.elements, &parts[..n], &mut found);
                 found
             }
+            _ => (0..self.elements.len()).collect(),
         }
+    }
+
+    /// True when the geometry has more than [`ELEMENT_INDEX_MIN`]
+    /// elements: its element index ([`Prepared::tree`]) is asked rather
+    /// than every element scanned.
+    pub fn indexed(&self) -> bool {
+        self.elements.len() > ELEMENT_INDEX_MIN && self.tree.is_some()
     }
 
     /// True when the geometry has no vertex.
@@ -485,10 +476,6 @@ impl Prepared {
                 .map(|chain| chain[0]),
         )
     }
-}
-
-fn entry(r: AABB<[f64; 2]>, i: u32) -> IndexEntry {
-    GeomWithData::new(Rectangle::from_aabb(r), i)
 }
 
 /// A ball around all elements: centred on the middle of their centres'

@@ -970,7 +970,7 @@ fn feature_in_plane(
             }
             Element::Edge(a, b) => {
                 let (pa, pb) = (project(a), project(b));
-                let ring = geometry.owners[k].is_some();
+                let ring = geometry.owner(k).is_some();
                 let mut add = |pa: (f64, f64), pb: (f64, f64)| {
                     breaks.extend([pa, pb]);
                     if f.reach > 0.0 {

@@ -1,10 +1,15 @@
-//! ambit_sweep(layer, query): every row of `query` (its first column an
-//! id of any type, its second a geometry) against a layer, on all cores.
+//! ambit_sweep(layer, query [, max_m]): every row of `query` (its first
+//! column an id of any type, its second a geometry) against a layer, on
+//! all cores.
 //!
 //! ```text
 //! SELECT id, reached, nearest_m, share
 //! FROM ambit_sweep('parks', 'SELECT geoid, geom FROM blocks');
 //! ```
+//!
+//! With `max_m` (metres, or a length with its unit as text), `nearest_m` is
+//! NULL where no feature lies within `max_m`, as ambit_nearest's third
+//! argument, and the nearest search stops there.
 //!
 //! Only the columns the statement uses are computed (SQLite tells the
 //! table which, in its plan): `reached` alone is the cheapest, `share`
@@ -13,7 +18,9 @@
 //!
 //! The query runs on the same connection. Its rows are read in chunks of
 //! [`chunk_rows`] rows (copying each chunk's blobs), each chunk is
-//! evaluated in parallel with rayon (RAYON_NUM_THREADS honoured), and rows
+//! evaluated in parallel with rayon (RAYON_NUM_THREADS honoured) while
+//! this thread reads the next one and SQLite consumes the one before (at
+//! most two chunks in memory), and rows
 //! come back in input order, so the output never depends on the thread
 //! count or chunk size; memory stays bounded by one chunk whatever the
 //! number of rows. `reached`, `nearest_m` and `share` equal ambit_reached,
@@ -36,8 +43,10 @@
 use std::borrow::Cow;
 use std::ffi::{c_int, CStr, CString};
 use std::marker::PhantomData;
+use std::panic::{catch_unwind, AssertUnwindSafe};
+use std::sync::mpsc::{sync_channel, Receiver, RecvTimeoutError};
 use std::sync::Arc;
-use std::time::Instant;
+use std::time::{Duration, Instant};
 
 use rayon::prelude::*;
 use rusqlite::ffi;
@@ -45,15 +54,16 @@ use rusqlite::types::Value;
 use rusqlite::vtab::{Context, Filters, IndexInfo, VTab, VTabConnection, VTabCursor};
 
 use crate::blob;
-use crate::interrupt::Interrupt;
+use crate::interrupt::{Interrupt, StopFlag};
+use crate::proximity::boxes::{ball_around, envelope};
 use crate::proximity::{Layer, Prepared};
-use crate::sql::interrupt::{run_parallel, HostInterrupt};
+use crate::sql::interrupt::HostInterrupt;
 use crate::sql::state::ConnState;
 use crate::sql::tables::{argument_plan_with, arguments, table_error};
 use crate::sql::{guard, interrupted, Args};
 
 const SWEEP: &str = "ambit_sweep";
-const SWEEP_PARAMS: &[&str] = &["layer", "query"];
+const SWEEP_PARAMS: &[&str] = &["layer", "query", "max_m"];
 
 /// The most rows one parallel task evaluates before others can take the
 /// rest of its share.
@@ -227,6 +237,7 @@ fn evaluate(
     id: Value,
     geom: Value,
     wanted: Wanted,
+    max_m: Option<f64>,
     stop: &dyn Interrupt,
 ) -> Result<Row, String> {
     let (reached, nearest, share) = match &geom {
@@ -234,11 +245,24 @@ fn evaluate(
         Value::Blob(bytes) => {
             let fail = |e: &dyn std::fmt::Display| format!("row with id {}: {e}", show(&id));
             let decoded = blob::decode_valid(bytes).map_err(|e| fail(&e))?;
+            // Reached alone, and no feature's box near the geometry's
+            // envelope: not reached, without preparing it.
+            if wanted.0 == 1 << COL_REACHED
+                && envelope(&decoded.geometry)
+                    .is_some_and(|b| !layer.may_reach(&b, Some(&ball_around(&b))))
+            {
+                return Ok(Row {
+                    id,
+                    reached: Value::Integer(0),
+                    nearest: Value::Null,
+                    share: Value::Null,
+                });
+            }
             let g = Prepared::build(&decoded.geometry, stop).map_err(|e| fail(&e))?;
             let (reached, nearest) = match (wanted.has(COL_REACHED), wanted.has(COL_NEAREST)) {
                 (true, true) => {
                     let (r, n) = layer
-                        .reached_and_nearest_until(&g, stop)
+                        .reached_and_nearest_until(&g, max_m, stop)
                         .map_err(|e| fail(&e))?;
                     (Some(r), n)
                 }
@@ -248,7 +272,7 @@ fn evaluate(
                 ),
                 (false, true) => (
                     None,
-                    layer.nearest_until(&g, None, stop).map_err(|e| fail(&e))?,
+                    layer.nearest_until(&g, max_m, stop).map_err(|e| fail(&e))?,
                 ),
                 (false, false) => (None, None),
             };
@@ -365,7 +389,7 @@ unsafe impl<'vtab> VTab<'vtab> for SweepTable {
         let handle = unsafe { DbHandle::new(db.handle()) };
         Ok((
             Cow::Borrowed(
-                c"CREATE TABLE x(id, reached INTEGER, nearest_m REAL, share REAL, layer HIDDEN, query HIDDEN)",
+                c"CREATE TABLE x(id, reached INTEGER, nearest_m REAL, share REAL, layer HIDDEN, query HIDDEN, max_m HIDDEN)",
             ),
             SweepTable {
                 base: ffi::sqlite3_vtab::default(),
@@ -377,7 +401,7 @@ unsafe impl<'vtab> VTab<'vtab> for SweepTable {
 
     fn best_index(&self, info: &mut IndexInfo) -> rusqlite::Result<bool> {
         let used = Wanted::from_col_used(info.col_used());
-        argument_plan_with(info, FIRST_ARG, 2, 2, (used.0 << USED_SHIFT) as c_int)
+        argument_plan_with(info, FIRST_ARG, 3, 2, (used.0 << USED_SHIFT) as c_int)
     }
 
     fn open(&'vtab mut self) -> rusqlite::Result<SweepCursor<'vtab>> {
@@ -396,8 +420,13 @@ unsafe impl<'vtab> VTab<'vtab> for SweepTable {
 struct Run {
     layer: Arc<Layer>,
     wanted: Wanted,
+    /// nearest_m is NULL beyond this (metres), and not searched for.
+    max_m: Option<f64>,
     query: RawQuery,
+    /// The query has no more rows.
     finished: bool,
+    /// The chunk being evaluated while the cursor hands out the one before.
+    pending: Option<Pending>,
     progress: Option<Progress>,
 }
 
@@ -419,6 +448,7 @@ impl SweepCursor<'_> {
         let sql = args
             .text(1)?
             .ok_or_else(|| args.fail_arg(1, "must not be NULL"))?;
+        let max_m = args.distance(2)?;
         let layer = args.state().layer(SWEEP, name)?;
         let query = RawQuery::prepare(self.table.db, sql).map_err(|e| args.fail_arg(1, e))?;
         if query.columns() < 2 {
@@ -447,25 +477,20 @@ impl SweepCursor<'_> {
         self.run = Some(Run {
             layer,
             wanted,
+            max_m,
             query,
             finished: false,
+            pending: None,
             progress,
         });
         self.next_chunk()
     }
 
-    /// Reads and evaluates the next chunk of rows.
-    fn next_chunk(&mut self) -> rusqlite::Result<()> {
-        self.rows.clear();
-        self.at = 0;
-        let Some(run) = self.run.as_mut() else {
-            return Ok(());
-        };
-        if run.finished {
-            return Ok(());
-        }
+    /// Reads `run`'s next chunk of rows (fewer at the end, then
+    /// `run.finished`).
+    fn read_chunk(run: &mut Run) -> rusqlite::Result<Vec<(Value, Value)>> {
         let limit = chunk_rows();
-        let mut input = Vec::with_capacity(limit);
+        let mut input = Vec::with_capacity(limit.min(1 << 16));
         while input.len() < limit {
             match run.query.step() {
                 Ok(true) => input.push((run.query.value(0), run.query.value(1))),
@@ -473,44 +498,141 @@ impl SweepCursor<'_> {
                     run.finished = true;
                     break;
                 }
-                Err(e) => return Err(table_error(SWEEP, format!("the query failed: {e}"))),
+                Err(e) => {
+                    if let Some(p) = &run.pending {
+                        p.stop.set();
+                    }
+                    return Err(table_error(SWEEP, format!("the query failed: {e}")));
+                }
             }
         }
-        let layer = Arc::clone(&run.layer);
-        let wanted = run.wanted;
-        let n = input.len() as u64;
-        // Rows differ in cost by 1000x (a block beside a park of thousands
-        // of edges against one in the open), and neighbours in a table are
-        // often alike; leaves of at most ROWS_PER_TASK rows let idle threads
-        // take work from a busy one instead of waiting for its whole half.
-        // The workers check the stop flag before every row (and ambit_share
-        // checks it inside a row), and this thread sets it within a few
-        // milliseconds of an interrupt (Ctrl-C), so a chunk stops after the
-        // rows in hand, not at its end.
+        Ok(input)
+    }
+
+    /// Hands the next chunk's rows to the cursor. Pipelined: the chunk
+    /// after it is read from the query (on this thread, which alone may
+    /// call SQLite) while the workers evaluate this one, and its
+    /// evaluation starts before this returns, so that the workers keep
+    /// going while SQLite consumes the rows handed over.
+    fn next_chunk(&mut self) -> rusqlite::Result<()> {
+        self.rows.clear();
+        self.at = 0;
+        let Some(run) = self.run.as_mut() else {
+            return Ok(());
+        };
+        if run.pending.is_none() {
+            if run.finished {
+                return Ok(());
+            }
+            let input = SweepCursor::read_chunk(run)?;
+            run.pending = Some(Pending::start(run, input));
+        }
+        let next = if run.finished {
+            Vec::new()
+        } else {
+            SweepCursor::read_chunk(run)?
+        };
+        let pending = run.pending.take().expect("a chunk is pending");
         // SAFETY: the handle is the live connection of this virtual table,
         // and `host` is used only here, on the thread running the statement.
         let host = unsafe { HostInterrupt::of_db(self.table.db.0) };
-        let rows: Result<Vec<Row>, Option<String>> = run_parallel(&host, |stop| {
-            input
-                .into_par_iter()
-                .with_max_len(ROWS_PER_TASK)
-                .map(|(id, geom)| {
-                    if stop.requested() {
-                        return Err(None);
-                    }
-                    evaluate(&layer, id, geom, wanted, stop).map_err(Some)
-                })
-                .collect()
-        });
+        let rows = pending.wait(&host);
+        let n = pending.rows;
+        drop(pending);
         self.rows = rows.map_err(|e| match e {
             Some(_) if host.requested() => interrupted(SWEEP),
             Some(message) => table_error(SWEEP, message),
             None => interrupted(SWEEP),
         })?;
+        if !next.is_empty() {
+            run.pending = Some(Pending::start(run, next));
+        }
         if let Some(p) = run.progress.as_mut() {
-            p.report(n, run.finished);
+            p.report(n, run.finished && run.pending.is_none());
         }
         Ok(())
+    }
+}
+
+/// A chunk being evaluated on the rayon pool.
+struct Pending {
+    result: Receiver<Result<Vec<Row>, Option<String>>>,
+    stop: Arc<StopFlag>,
+    rows: u64,
+}
+
+impl Pending {
+    /// Starts evaluating `input` on the rayon pool. Rows differ in cost by
+    /// 1000x (a block beside a park of thousands of edges against one in
+    /// the open), and neighbours in a table are often alike; leaves of at
+    /// most ROWS_PER_TASK rows let idle threads take work from a busy one
+    /// instead of waiting for its whole half. The workers check the stop
+    /// flag before every row (and the costly searches inside a row), and
+    /// [`Pending::wait`] sets it within a few milliseconds of an interrupt
+    /// (Ctrl-C), as does dropping the value (the cursor closed early).
+    fn start(run: &Run, input: Vec<(Value, Value)>) -> Pending {
+        let stop = Arc::new(StopFlag::new());
+        let (sender, result) = sync_channel(1);
+        let rows = input.len() as u64;
+        let (layer, wanted, max_m, flag) = (
+            Arc::clone(&run.layer),
+            run.wanted,
+            run.max_m,
+            Arc::clone(&stop),
+        );
+        rayon::spawn(move || {
+            let work = || {
+                input
+                    .into_par_iter()
+                    .with_max_len(ROWS_PER_TASK)
+                    .map(|(id, geom)| {
+                        if flag.requested() {
+                            return Err(None);
+                        }
+                        evaluate(&layer, id, geom, wanted, max_m, &*flag).map_err(Some)
+                    })
+                    .collect()
+            };
+            // A panic must not reach rayon (which would abort the host).
+            let out = catch_unwind(AssertUnwindSafe(work)).unwrap_or_else(|panic| {
+                let what = panic
+                    .downcast_ref::<&str>()
+                    .map(|s| s.to_string())
+                    .or_else(|| panic.downcast_ref::<String>().cloned())
+                    .unwrap_or_default();
+                Err(Some(format!(
+                    "internal error, please report it with the query that caused it: {what}"
+                )))
+            });
+            // The cursor may have gone; then nobody needs the rows.
+            let _ = sender.send(out);
+        });
+        Pending { result, stop, rows }
+    }
+
+    /// The chunk's rows, watching `host` for an interrupt meanwhile.
+    fn wait(&self, host: &HostInterrupt<'_>) -> Result<Vec<Row>, Option<String>> {
+        loop {
+            match self.result.recv_timeout(Duration::from_millis(5)) {
+                Ok(rows) => return rows,
+                Err(RecvTimeoutError::Timeout) => {
+                    if host.requested() {
+                        self.stop.set();
+                    }
+                }
+                Err(RecvTimeoutError::Disconnected) => {
+                    return Err(Some(
+                        "internal error: the sweep's workers stopped".to_string(),
+                    ))
+                }
+            }
+        }
+    }
+}
+
+impl Drop for Pending {
+    fn drop(&mut self) {
+        self.stop.set();
     }
 }
 
@@ -529,7 +651,7 @@ unsafe impl VTabCursor for SweepCursor<'_> {
             ));
         }
         let state = Arc::clone(&self.table.state);
-        let args = Args::new(SWEEP, SWEEP_PARAMS, arguments(idx, values, 2), &state);
+        let args = Args::new(SWEEP, SWEEP_PARAMS, arguments(idx, values, 3), &state);
         let wanted = Wanted((idx as u32) >> USED_SHIFT);
         self.run = None;
         guard(SWEEP, || self.start(&args, wanted))
