@@ -41,7 +41,7 @@
 DROP TABLE IF EXISTS build_parameters;
 CREATE TABLE build_parameters (build_year INTEGER, park_reach_m REAL,
   urban_facility_reach_m REAL, rural_facility_reach_m REAL,
-  same_facility_within_m REAL, blocks_table TEXT, parks_table TEXT,
+  same_facility_within_m REAL, nearest_within_m REAL, blocks_table TEXT, parks_table TEXT,
   facility_tables TEXT, urban_table TEXT, ambit_version TEXT, ambit_info TEXT,
   sqlite_version TEXT);
 INSERT INTO build_parameters SELECT
