@@ -12,7 +12,8 @@ must equal brute force: ambit_distance from the block to every feature of
 the layer 'exercise' (parks with the park reach, facilities with their
 reach_m, as the script builds it) that can matter, `reached` = some feature
 within its reach, `nearest_m` = the least distance (when NEAREST is 1),
-compared exactly.
+compared exactly, or NULL when the least distance exceeds the script's
+nearest_within_m.
 
 Which features can matter: a feature whose latitudes all lie more than D
 degrees from the block's is more than D * 110574 m away, the length of one
@@ -112,6 +113,12 @@ def main():
               f"{len(near)} blocks within 0.01 degree of its vertices", flush=True)
         chosen += [("big park", f) for f in rng.sample(near, min(10, len(near)))]
 
+    # The script stores nearest_m up to its parameter nearest_within_m
+    # (NULL beyond); without that parameter, uncapped.
+    columns = [r[1] for r in conn.execute("PRAGMA table_info(build_parameters)")]
+    cap = (conn.execute("SELECT nearest_within_m FROM build_parameters").fetchone()[0]
+           if "nearest_within_m" in columns else None)
+    print(f"check: nearest_m stored up to {cap} m" if cap else "check: nearest_m uncapped")
     failures = 0
     for n, (kind, fid) in enumerate(chosen, 1):
         block, access, nearest_m = conn.execute(
@@ -138,7 +145,8 @@ def main():
             if radius > 2.1e7:
                 break
         reached = int(any(done[i] <= features[i][1] for i in done))
-        ok = reached == access and (not nearest or least == nearest_m)
+        expected = least if cap is None or (least is not None and least <= cap) else None
+        ok = reached == access and (not nearest or expected == nearest_m)
         failures += not ok
         if not ok or n % 25 == 0 or kind != "random":
             print(f"check: {kind} block {fid}: sweep {access} {nearest_m}, brute force {reached} "
