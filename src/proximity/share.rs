@@ -624,19 +624,22 @@ impl Plane {
         let mut pieces = Vec::new();
         let mut interiors = Vec::new();
         let bbox = g.bbox.expect("a geometry with a ball has a box");
+        let plane_box = [x_lo, x_hi, y_lo, y_hi];
         for f in reaching {
             stop.check()?;
+            let first = pieces.len();
             feature_in_plane(
                 f,
                 &frame,
                 &bbox,
-                rho,
+                (rho, plane_box),
                 reference,
                 (x_hi, y_hi),
                 &mut pieces,
                 &mut interiors,
                 &mut kinks,
             );
+            drop_covered_capsules(&mut pieces, first, stop)?;
         }
         let piece_ranges: Vec<(f64, f64)> = pieces.iter().map(Piece::y_range).collect();
         let piece_index = ByHeight::new(&piece_ranges, y_lo, y_hi);
@@ -932,7 +935,7 @@ fn feature_in_plane(
     f: &Feature,
     frame: &AzimuthalFrame,
     g_box: &LonLatBox,
-    rho: f64,
+    (rho, plane_box): (f64, [f64; 4]),
     reference: (f64, f64),
     top_right: (f64, f64),
     pieces: &mut Vec<Piece>,
@@ -972,9 +975,13 @@ fn feature_in_plane(
                 let (pa, pb) = (project(a), project(b));
                 let ring = geometry.owners[k].is_some();
                 let mut add = |pa: (f64, f64), pb: (f64, f64)| {
-                    breaks.extend([pa, pb]);
-                    if f.reach > 0.0 {
-                        pieces.push(Piece::capsule(pa, pb, f.reach));
+                    // Elements fetched only for the interior's crossings
+                    // (beyond reach of g's box in the plane) add no piece.
+                    if capsule_meets_box(pa, pb, f.reach, &plane_box) {
+                        breaks.extend([pa, pb]);
+                        if f.reach > 0.0 {
+                            pieces.push(Piece::capsule(pa, pb, f.reach));
+                        }
                     }
                     if ring {
                         ring_edges.push(Seg { a: pa, b: pb });
@@ -1030,6 +1037,182 @@ fn feature_in_plane(
         vertical,
         inside_at_ref,
     });
+}
+
+/// True when the box of the capsule of radius `r` around a-b meets the box
+/// `[x_lo, x_hi, y_lo, y_hi]` (`g`'s extent in the plane): a capsule whose
+/// box does not cannot cover any of `g`.
+fn capsule_meets_box(a: (f64, f64), b: (f64, f64), r: f64, bx: &[f64; 4]) -> bool {
+    let r = r.max(0.0);
+    a.0.min(b.0) - r <= bx[1]
+        && a.0.max(b.0) + r >= bx[0]
+        && a.1.min(b.1) - r <= bx[3]
+        && a.1.max(b.1) + r >= bx[2]
+}
+
+/// How many capsules on each side of a capsule (in the order its feature
+/// gave them, which follows its rings) may vouch for it in
+/// [`drop_covered_capsules`].
+const COVER_WINDOW: usize = 48;
+
+/// Removes from `pieces[first..]` capsules that lie wholly inside the union
+/// of discs of radius r around end points of capsules that are kept (all
+/// capsules of one feature share one radius r), so lines section fewer
+/// pieces without changing the covered set by a single point. Next to a
+/// densely digitised park (thousands of edges a metre long within reach
+/// of g) most capsules are of this kind.
+///
+/// The test, exact: a capsule around a-b with radius r lies within the
+/// union of the discs of radius r around points u, each no farther than
+/// r/2 from a and from b, when every unit direction d has a u with
+/// d·(u−a) >= |u−a|²/(2r) and d·(u−b) >= |u−b|²/(2r). Proof: both sides
+/// are linear and convex in the end point, so the inequality holds for
+/// every q of a-b; a point w = q + s d (0 <= s <= r) of the capsule then
+/// has |w−u|² = |q−u|² − 2s d·(u−q) + s² <= |q−u|² (1 − s/r) + s²
+/// <= r² − rs + s² <= r². For one u the good directions form an arc of
+/// half-width acos(|u−a|/(2r)) around u−a, met with its like for b; the
+/// capsule goes when these arcs, each narrowed by 1e-9 rad, cover the
+/// circle. The capsules whose end points were used are marked kept for
+/// good (so nothing removed later takes away a disc that vouched for an
+/// earlier removal), and a capsule used as such is never removed itself.
+fn drop_covered_capsules(
+    pieces: &mut Vec<Piece>,
+    first: usize,
+    stop: &dyn Interrupt,
+) -> Result<(), ShareError> {
+    let n = pieces.len() - first;
+    if n < 3 {
+        return Ok(());
+    }
+    const GONE: u8 = 1;
+    const LOCKED: u8 = 2;
+    let mut state = vec![0u8; n];
+    let mut arcs: Vec<(f64, f64, usize)> = Vec::new();
+    let mut locked_arcs: Vec<(f64, f64, usize)> = Vec::new();
+    let mut chosen: Vec<usize> = Vec::new();
+    for i in 0..n {
+        if i % CHECK_EVERY == CHECK_EVERY - 1 {
+            stop.check()?;
+        }
+        if state[i] != 0 {
+            continue;
+        }
+        let Piece::Capsule { a, b, r, .. } = pieces[first + i] else {
+            continue;
+        };
+        arcs.clear();
+        let (lo, hi) = (
+            i.saturating_sub(COVER_WINDOW),
+            (i + COVER_WINDOW + 1).min(n),
+        );
+        for j in lo..hi {
+            if j == i || state[j] & GONE != 0 {
+                continue;
+            }
+            let Piece::Capsule {
+                a: ja,
+                b: jb,
+                r: jr,
+                ..
+            } = pieces[first + j]
+            else {
+                continue;
+            };
+            if jr != r {
+                continue;
+            }
+            for u in [ja, jb] {
+                if let Some((start, end)) = good_directions(a, b, u, r) {
+                    arcs.push((start, end, j));
+                }
+            }
+        }
+        // Vouchers already kept for good first, so that fewer capsules are
+        // pinned.
+        locked_arcs.clear();
+        locked_arcs.extend(arcs.iter().filter(|a| state[a.2] & LOCKED != 0));
+        if covers_circle(&mut locked_arcs, &mut chosen) {
+            state[i] = GONE;
+        } else if covers_circle(&mut arcs, &mut chosen) {
+            state[i] = GONE;
+            for &j in &chosen {
+                state[j] |= LOCKED;
+            }
+        }
+    }
+    let mut k = 0;
+    pieces.retain(|_| {
+        let keep = k < first || state[k - first] & GONE == 0;
+        k += 1;
+        keep
+    });
+    Ok(())
+}
+
+/// The arc of unit directions d (as angles, start in [0, 2π), end > start)
+/// with d·(u−a) >= |u−a|²/(2r) and d·(u−b) >= |u−b|²/(2r), narrowed by
+/// 1e-9 rad at each end; None when empty or when u is not within r/2 of
+/// both a and b, or coincides with either.
+fn good_directions(a: (f64, f64), b: (f64, f64), u: (f64, f64), r: f64) -> Option<(f64, f64)> {
+    const NARROW: f64 = 1e-9;
+    let arc = |p: (f64, f64)| -> Option<(f64, f64)> {
+        let (dx, dy) = (u.0 - p.0, u.1 - p.1);
+        let d = dx.hypot(dy);
+        (d > 0.0 && d <= 0.5 * r).then(|| (dy.atan2(dx), (d / (2.0 * r)).acos() - NARROW))
+    };
+    let (c1, h1) = arc(a)?;
+    let (c2, h2) = arc(b)?;
+    let mut delta = c2 - c1;
+    if delta > std::f64::consts::PI {
+        delta -= std::f64::consts::TAU;
+    } else if delta < -std::f64::consts::PI {
+        delta += std::f64::consts::TAU;
+    }
+    let lo = (-h1).max(delta - h2);
+    let hi = h1.min(delta + h2);
+    if lo.is_nan() || hi.is_nan() || lo >= hi {
+        return None;
+    }
+    let start = (c1 + lo).rem_euclid(std::f64::consts::TAU);
+    Some((start, start + (hi - lo)))
+}
+
+/// True when the arcs (start in [0, 2π), end > start, each shorter than π)
+/// cover the whole circle; then `chosen` holds the tags of arcs that do
+/// (picked greedily, each reaching farthest).
+fn covers_circle(arcs: &mut [(f64, f64, usize)], chosen: &mut Vec<usize>) -> bool {
+    use std::f64::consts::TAU;
+    chosen.clear();
+    // The arc over angle 0 that reaches farthest past it.
+    let Some(&(wrap_start, wrap_end, wrap_tag)) = arcs
+        .iter()
+        .filter(|a| a.1 > TAU)
+        .max_by(|x, y| x.1.total_cmp(&y.1))
+    else {
+        return false;
+    };
+    let mut reach = wrap_end - TAU;
+    chosen.push(wrap_tag);
+    arcs.sort_by(|x, y| x.0.total_cmp(&y.0));
+    let mut k = 0;
+    // The farthest-reaching arc among those starting before `reach`.
+    let mut best: Option<(f64, usize)> = None;
+    while reach < wrap_start {
+        while k < arcs.len() && arcs[k].0 < reach {
+            if best.is_none_or(|(e, _)| arcs[k].1 > e) {
+                best = Some((arcs[k].1, arcs[k].2));
+            }
+            k += 1;
+        }
+        match best {
+            Some((end, tag)) if end > reach => {
+                reach = end;
+                chosen.push(tag);
+            }
+            _ => return false,
+        }
+    }
+    true
 }
 
 /// True when (x, y) lies in one of `g`'s intervals on the line through it,
@@ -1187,6 +1370,90 @@ mod tests {
         // And not beyond: x^24 is not exact for Kronrod, x^14 not for Gauss.
         let kr = rule(&KRONROD_NODES, &KRONROD_WEIGHTS, |x| x.powi(24));
         assert!((kr - 2.0 / 25.0).abs() > 1e-9);
+    }
+
+    /// Length of the union of the pieces' sections on the line y = c.
+    fn union_length(pieces: &[Piece], c: f64) -> f64 {
+        let mut ivs: Vec<(f64, f64)> = pieces.iter().filter_map(|p| p.section(c)).collect();
+        ivs.sort_by(|a, b| a.0.total_cmp(&b.0));
+        let (mut total, mut cur): (f64, Option<(f64, f64)>) = (0.0, None);
+        for iv in ivs {
+            cur = match cur {
+                Some(c) if iv.0 <= c.1 => Some((c.0, c.1.max(iv.1))),
+                Some(c) => {
+                    total += c.1 - c.0;
+                    Some(iv)
+                }
+                None => Some(iv),
+            };
+        }
+        total + cur.map_or(0.0, |c| c.1 - c.0)
+    }
+
+    /// Dropping covered capsules leaves the union of a ragged chain's
+    /// capsules unchanged on every line (brute force: the union of all
+    /// sections, before and after, on 2,000 lines), and drops most of them
+    /// (the chain wiggles by about a metre per metre; reach 50 m).
+    #[test]
+    fn dropping_covered_capsules_keeps_the_union() {
+        // A fixed-seed ragged chain: a random walk northwards.
+        let mut seed: u64 = 0x9e37_79b9_7f4a_7c15;
+        let mut unit = || {
+            seed ^= seed << 13;
+            seed ^= seed >> 7;
+            seed ^= seed << 17;
+            (seed >> 11) as f64 / (1u64 << 53) as f64
+        };
+        let mut pts = vec![(0.0, 0.0)];
+        for _ in 0..600 {
+            let &(x, y) = pts.last().unwrap();
+            pts.push((x + 2.0 * unit() - 1.0, y + 1.2 * unit() - 0.2));
+        }
+        let r = 50.0;
+        let all: Vec<Piece> = pts
+            .windows(2)
+            .map(|w| Piece::capsule(w[0], w[1], r))
+            .collect();
+        let mut kept = all.clone();
+        drop_covered_capsules(&mut kept, 0, &crate::interrupt::Never).unwrap();
+        assert!(
+            kept.len() * 3 < all.len(),
+            "kept {} of {}",
+            kept.len(),
+            all.len()
+        );
+        let (y_lo, y_hi) = all
+            .iter()
+            .map(Piece::y_range)
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |a, b| {
+                (a.0.min(b.0), a.1.max(b.1))
+            });
+        for k in 0..2000 {
+            let c = y_lo + (y_hi - y_lo) * (k as f64 + 0.5) / 2000.0;
+            let (want, got) = (union_length(&all, c), union_length(&kept, c));
+            assert!(
+                (want - got).abs() <= 1e-9 * want.max(1.0),
+                "line {c}: {want} vs {got}"
+            );
+        }
+    }
+
+    /// Arcs over the circle: three arcs of 150 degrees cover it, two do not
+    /// (common practice, no source).
+    #[test]
+    fn arcs_cover_the_circle_only_when_they_do() {
+        let deg = |d: f64| d.to_radians();
+        let mut chosen = Vec::new();
+        let mut three = vec![
+            (deg(0.0), deg(150.0), 0),
+            (deg(120.0), deg(270.0), 1),
+            (deg(250.0), deg(400.0), 2),
+        ];
+        assert!(covers_circle(&mut three, &mut chosen));
+        chosen.sort_unstable();
+        assert_eq!(chosen, vec![0, 1, 2]);
+        let mut two = vec![(deg(0.0), deg(150.0), 0), (deg(200.0), deg(370.0), 1)];
+        assert!(!covers_circle(&mut two, &mut chosen));
     }
 
     #[test]
