@@ -945,12 +945,15 @@ fn feature_in_plane(
     let geometry = &f.geometry;
     let has_interior = !geometry.polygons.is_empty();
     // The reference point may move up to REFERENCE_SHIFT metres (below).
-    let grow = if has_interior {
-        f.reach.max(rho + REFERENCE_SHIFT)
+    let query = if has_interior && rho + REFERENCE_SHIFT > f.reach {
+        match path_box(frame, reference, top_right) {
+            Some(path) => g_box.grown(f.reach).union(&path),
+            None => g_box.grown(rho + REFERENCE_SHIFT),
+        }
     } else {
-        f.reach
+        g_box.grown(f.reach)
     };
-    let mut near = geometry.elements_near(&g_box.grown(grow));
+    let mut near = geometry.elements_near(&query);
     near.sort_unstable();
     let mut ring_edges = Vec::new();
     let mut last: Option<((f64, f64), (f64, f64))> = None;
@@ -978,9 +981,13 @@ fn feature_in_plane(
                     // Elements fetched only for the interior's crossings
                     // (beyond reach of g's box in the plane) add no piece.
                     if capsule_meets_box(pa, pb, f.reach, &plane_box) {
-                        breaks.extend([pa, pb]);
                         if f.reach > 0.0 {
+                            // The vertices lie strictly inside the covered
+                            // part (within 0 < reach of the feature), so
+                            // the interior's kinks there change nothing.
                             pieces.push(Piece::capsule(pa, pb, f.reach));
+                        } else {
+                            breaks.extend([pa, pb]);
                         }
                     }
                     if ring {
@@ -990,7 +997,7 @@ fn feature_in_plane(
                 if (pb.0 - pa.0).hypot(pb.1 - pa.1) > CHORD_METRES {
                     // A long geodesic edge: its parts near g, as chords of
                     // at most a 64th of it (or CHORD_METRES).
-                    let near_g = g_box.grown(grow + 1_000.0);
+                    let near_g = query.grown(1_000.0);
                     for (qa, qb) in geodesic_parts(a, b, &near_g) {
                         add(frame.forward(qa), frame.forward(qb));
                     }
@@ -1039,6 +1046,60 @@ fn feature_in_plane(
     });
 }
 
+/// A longitude-latitude box holding the plane's rectangle from `reference`
+/// (less [`REFERENCE_SHIFT`] metres) to `top_right`, where an interior's
+/// parity paths run (up from the reference point, then along each line):
+/// every edge that crosses those paths has a box meeting it. The
+/// rectangle's sides are mapped back at 32 points each and the box grown
+/// by 1 km, far more than an image of a side strays from its samples'
+/// box between two samples (under 2 km apart within 25 km of the centre).
+/// None near a pole (the rectangle may hold it), where the caller falls
+/// back to `g`'s box grown by the rectangle's distance from the centre.
+fn path_box(
+    frame: &AzimuthalFrame,
+    reference: (f64, f64),
+    top_right: (f64, f64),
+) -> Option<LonLatBox> {
+    const SAMPLES: usize = 32;
+    let (x0, y0) = (reference.0 - REFERENCE_SHIFT, reference.1 - REFERENCE_SHIFT);
+    let (x1, y1) = top_right;
+    let centre = frame.reverse((0.0, 0.0));
+    let far = [x0, x1]
+        .iter()
+        .flat_map(|&x| [y0, y1].map(|y| f64::hypot(x, y)))
+        .fold(0.0, f64::max);
+    if !far.is_finite() || centre.1.abs() + far / 100_000.0 + 0.1 > 89.0 {
+        return None;
+    }
+    let mut b: Option<LonLatBox> = None;
+    for k in 0..=SAMPLES {
+        let t = k as f64 / SAMPLES as f64;
+        let (x, y) = (x0 + t * (x1 - x0), y0 + t * (y1 - y0));
+        for xy in [(x, y0), (x, y1), (x0, y), (x1, y)] {
+            let (lon, lat) = frame.reverse(xy);
+            let lon = centre.0 + wrap_delta(centre.0, lon);
+            if !(lon.is_finite() && lat.is_finite()) {
+                return None;
+            }
+            b = Some(match b {
+                None => LonLatBox {
+                    lon_lo: lon,
+                    lon_hi: lon,
+                    lat_lo: lat,
+                    lat_hi: lat,
+                },
+                Some(b) => LonLatBox {
+                    lon_lo: b.lon_lo.min(lon),
+                    lon_hi: b.lon_hi.max(lon),
+                    lat_lo: b.lat_lo.min(lat),
+                    lat_hi: b.lat_hi.max(lat),
+                },
+            });
+        }
+    }
+    b.map(|b| b.grown(1_000.0))
+}
+
 /// True when the box of the capsule of radius `r` around a-b meets the box
 /// `[x_lo, x_hi, y_lo, y_hi]` (`g`'s extent in the plane): a capsule whose
 /// box does not cannot cover any of `g`.
@@ -1053,7 +1114,7 @@ fn capsule_meets_box(a: (f64, f64), b: (f64, f64), r: f64, bx: &[f64; 4]) -> boo
 /// How many capsules on each side of a capsule (in the order its feature
 /// gave them, which follows its rings) may vouch for it in
 /// [`drop_covered_capsules`].
-const COVER_WINDOW: usize = 48;
+const COVER_WINDOW: usize = 128;
 
 /// Removes from `pieces[first..]` capsules that lie wholly inside the union
 /// of discs of radius r around end points of capsules that are kept (all
@@ -1088,7 +1149,6 @@ fn drop_covered_capsules(
     const LOCKED: u8 = 2;
     let mut state = vec![0u8; n];
     let mut arcs: Vec<(f64, f64, usize)> = Vec::new();
-    let mut locked_arcs: Vec<(f64, f64, usize)> = Vec::new();
     let mut chosen: Vec<usize> = Vec::new();
     for i in 0..n {
         if i % CHECK_EVERY == CHECK_EVERY - 1 {
@@ -1100,40 +1160,45 @@ fn drop_covered_capsules(
         let Piece::Capsule { a, b, r, .. } = pieces[first + i] else {
             continue;
         };
-        arcs.clear();
         let (lo, hi) = (
             i.saturating_sub(COVER_WINDOW),
             (i + COVER_WINDOW + 1).min(n),
         );
-        for j in lo..hi {
-            if j == i || state[j] & GONE != 0 {
-                continue;
-            }
-            let Piece::Capsule {
-                a: ja,
-                b: jb,
-                r: jr,
-                ..
-            } = pieces[first + j]
-            else {
-                continue;
-            };
-            if jr != r {
-                continue;
-            }
-            for u in [ja, jb] {
-                if let Some((start, end)) = good_directions(a, b, u, r) {
-                    arcs.push((start, end, j));
+        // The arcs of the window's end points, from capsules kept for good
+        // first (so that fewer capsules are pinned and fewer arcs computed),
+        // then from the others still present.
+        let add_arcs = |arcs: &mut Vec<(f64, f64, usize)>, locked: bool| {
+            for j in lo..hi {
+                if j == i || state[j] & GONE != 0 || (state[j] & LOCKED != 0) != locked {
+                    continue;
+                }
+                let Piece::Capsule {
+                    a: ja,
+                    b: jb,
+                    r: jr,
+                    ..
+                } = pieces[first + j]
+                else {
+                    continue;
+                };
+                if jr != r {
+                    continue;
+                }
+                for u in [ja, jb] {
+                    if let Some((start, end)) = good_directions(a, b, u, r) {
+                        arcs.push((start, end, j));
+                    }
                 }
             }
-        }
-        // Vouchers already kept for good first, so that fewer capsules are
-        // pinned.
-        locked_arcs.clear();
-        locked_arcs.extend(arcs.iter().filter(|a| state[a.2] & LOCKED != 0));
-        if covers_circle(&mut locked_arcs, &mut chosen) {
+        };
+        arcs.clear();
+        add_arcs(&mut arcs, true);
+        if covers_circle(&mut arcs, &mut chosen) {
             state[i] = GONE;
-        } else if covers_circle(&mut arcs, &mut chosen) {
+            continue;
+        }
+        add_arcs(&mut arcs, false);
+        if covers_circle(&mut arcs, &mut chosen) {
             state[i] = GONE;
             for &j in &chosen {
                 state[j] |= LOCKED;
