@@ -476,7 +476,7 @@ impl ByHeight {
         let n = ranges.len();
         let mean_height = ranges.iter().map(|r| r.1 - r.0).sum::<f64>() / n.max(1) as f64;
         let wanted = if mean_height > 0.0 {
-            (extent / mean_height).floor()
+            (4.0 * extent / mean_height).floor()
         } else {
             n as f64
         };
@@ -696,7 +696,7 @@ impl Plane {
         if s.xs.len() < 2 {
             return (0.0, 0.0);
         }
-        s.xs.sort_by(f64::total_cmp);
+        s.xs.sort_unstable_by(f64::total_cmp);
         let k6 = self.k6;
         let total: f64 =
             s.xs.chunks_exact(2)
@@ -735,7 +735,7 @@ impl Plane {
                     }
                 }
             }
-            s.inside.sort_by(f64::total_cmp);
+            s.inside.sort_unstable_by(f64::total_cmp);
             let below = interior.vertical.partition_point(|&v| v < c);
             let mut inside = interior.inside_at_ref ^ (below % 2 == 1);
             let mut from = interior.x_ref;
@@ -753,7 +753,7 @@ impl Plane {
         if s.covered.is_empty() {
             return (total, 0.0);
         }
-        s.covered.sort_by(|a, b| a.0.total_cmp(&b.0));
+        s.covered.sort_unstable_by(|a, b| a.0.total_cmp(&b.0));
         // Merge, then measure the overlap with g's intervals.
         let mut merged: Vec<(f64, f64)> = Vec::with_capacity(s.covered.len());
         for &iv in &s.covered {
@@ -1258,7 +1258,7 @@ fn covers_circle(arcs: &mut [(f64, f64, usize)], chosen: &mut Vec<usize>) -> boo
     };
     let mut reach = wrap_end - TAU;
     chosen.push(wrap_tag);
-    arcs.sort_by(|x, y| x.0.total_cmp(&y.0));
+    arcs.sort_unstable_by(|x, y| x.0.total_cmp(&y.0));
     let mut k = 0;
     // The farthest-reaching arc among those starting before `reach`.
     let mut best: Option<(f64, usize)> = None;
