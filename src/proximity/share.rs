@@ -1132,8 +1132,8 @@ const COVER_WINDOW: usize = 128;
 /// has |w−u|² = |q−u|² − 2s d·(u−q) + s² <= |q−u|² (1 − s/r) + s²
 /// <= r² − rs + s² <= r². For one u the good directions form an arc of
 /// half-width acos(|u−a|/(2r)) around u−a, met with its like for b; the
-/// capsule goes when these arcs, each narrowed by 1e-9 rad, cover the
-/// circle. The capsules whose end points were used are marked kept for
+/// capsule goes when these arcs, each narrowed a little (1e-9 of a
+/// quarter turn), cover the circle. The capsules whose end points were used are marked kept for
 /// good (so nothing removed later takes away a disc that vouched for an
 /// earlier removal), and a capsule used as such is never removed itself.
 fn drop_covered_capsules(
@@ -1214,49 +1214,81 @@ fn drop_covered_capsules(
     Ok(())
 }
 
-/// The arc of unit directions d (as angles, start in [0, 2π), end > start)
-/// with d·(u−a) >= |u−a|²/(2r) and d·(u−b) >= |u−b|²/(2r), narrowed by
-/// 1e-9 rad at each end; None when empty or when u is not within r/2 of
-/// both a and b, or coincides with either.
+/// One turn in [`pseudo_angle`] units.
+const TURN: f64 = 4.0;
+
+/// A monotone stand-in for the angle of the direction (x, y) from the x
+/// axis, in [0, 4): each quarter turn maps to one unit, and the opposite
+/// direction lies exactly 2 further on (common practice, no source; no
+/// trigonometry needed). (0, 0) is never asked.
+fn pseudo_angle(x: f64, y: f64) -> f64 {
+    if y >= 0.0 {
+        if x >= 0.0 {
+            y / (x + y)
+        } else {
+            1.0 - x / (y - x)
+        }
+    } else if x < 0.0 {
+        2.0 - y / (-x - y)
+    } else {
+        3.0 + x / (x - y)
+    }
+}
+
+/// The arc of unit directions d (in [`pseudo_angle`] units, start in
+/// [0, 4), end > start) with d·(u−a) >= |u−a|²/(2r) and
+/// d·(u−b) >= |u−b|²/(2r), narrowed by 1e-9 at each end; None when empty
+/// or when u is not within r/2 of both a and b, or coincides with either.
+/// For one end point p the good directions are those within
+/// acos(|u−p|/(2r)) (less than a quarter turn) of u−p; their end
+/// directions are u−p turned both ways by that angle.
 fn good_directions(a: (f64, f64), b: (f64, f64), u: (f64, f64), r: f64) -> Option<(f64, f64)> {
     const NARROW: f64 = 1e-9;
     let arc = |p: (f64, f64)| -> Option<(f64, f64)> {
         let (dx, dy) = (u.0 - p.0, u.1 - p.1);
         let d = dx.hypot(dy);
-        (d > 0.0 && d <= 0.5 * r).then(|| (dy.atan2(dx), (d / (2.0 * r)).acos() - NARROW))
+        if !(d > 0.0 && d <= 0.5 * r) {
+            return None;
+        }
+        let (cx, cy) = (dx / d, dy / d);
+        let cos = d / (2.0 * r);
+        let sin = (1.0 - cos * cos).sqrt();
+        let start = pseudo_angle(cx * cos + cy * sin, cy * cos - cx * sin);
+        let mut end = pseudo_angle(cx * cos - cy * sin, cy * cos + cx * sin);
+        if end < start {
+            end += TURN;
+        }
+        Some((start + NARROW, end - NARROW))
     };
-    let (c1, h1) = arc(a)?;
-    let (c2, h2) = arc(b)?;
-    let mut delta = c2 - c1;
-    if delta > std::f64::consts::PI {
-        delta -= std::f64::consts::TAU;
-    } else if delta < -std::f64::consts::PI {
-        delta += std::f64::consts::TAU;
-    }
-    let lo = (-h1).max(delta - h2);
-    let hi = h1.min(delta + h2);
+    let (s1, e1) = arc(a)?;
+    let (s2, e2) = arc(b)?;
+    // Each arc is shorter than half a turn: they meet, if at all, with
+    // their middles less than half a turn apart.
+    let shift = (((s1 + e1) - (s2 + e2)) / 2.0 / TURN).round() * TURN;
+    let lo = s1.max(s2 + shift);
+    let hi = e1.min(e2 + shift);
     if lo.is_nan() || hi.is_nan() || lo >= hi {
         return None;
     }
-    let start = (c1 + lo).rem_euclid(std::f64::consts::TAU);
+    let start = lo.rem_euclid(TURN);
     Some((start, start + (hi - lo)))
 }
 
-/// True when the arcs (start in [0, 2π), end > start, each shorter than π)
+/// True when the arcs (in [`pseudo_angle`] units: start in [0, 4), end >
+/// start, each shorter than half a turn)
 /// cover the whole circle; then `chosen` holds the tags of arcs that do
 /// (picked greedily, each reaching farthest).
 fn covers_circle(arcs: &mut [(f64, f64, usize)], chosen: &mut Vec<usize>) -> bool {
-    use std::f64::consts::TAU;
     chosen.clear();
     // The arc over angle 0 that reaches farthest past it.
     let Some(&(wrap_start, wrap_end, wrap_tag)) = arcs
         .iter()
-        .filter(|a| a.1 > TAU)
+        .filter(|a| a.1 > TURN)
         .max_by(|x, y| x.1.total_cmp(&y.1))
     else {
         return false;
     };
-    let mut reach = wrap_end - TAU;
+    let mut reach = wrap_end - TURN;
     chosen.push(wrap_tag);
     arcs.sort_unstable_by(|x, y| x.0.total_cmp(&y.0));
     let mut k = 0;
@@ -1507,7 +1539,7 @@ mod tests {
     /// (common practice, no source).
     #[test]
     fn arcs_cover_the_circle_only_when_they_do() {
-        let deg = |d: f64| d.to_radians();
+        let deg = |d: f64| d / 90.0;
         let mut chosen = Vec::new();
         let mut three = vec![
             (deg(0.0), deg(150.0), 0),
