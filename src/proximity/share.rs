@@ -476,7 +476,7 @@ impl ByHeight {
         let n = ranges.len();
         let mean_height = ranges.iter().map(|r| r.1 - r.0).sum::<f64>() / n.max(1) as f64;
         let wanted = if mean_height > 0.0 {
-            (extent / mean_height).floor()
+            (4.0 * extent / mean_height).floor()
         } else {
             n as f64
         };
@@ -624,19 +624,22 @@ impl Plane {
         let mut pieces = Vec::new();
         let mut interiors = Vec::new();
         let bbox = g.bbox.expect("a geometry with a ball has a box");
+        let plane_box = [x_lo, x_hi, y_lo, y_hi];
         for f in reaching {
             stop.check()?;
+            let first = pieces.len();
             feature_in_plane(
                 f,
                 &frame,
                 &bbox,
-                rho,
+                (rho, plane_box),
                 reference,
                 (x_hi, y_hi),
                 &mut pieces,
                 &mut interiors,
                 &mut kinks,
             );
+            drop_covered_capsules(&mut pieces, first, stop)?;
         }
         let piece_ranges: Vec<(f64, f64)> = pieces.iter().map(Piece::y_range).collect();
         let piece_index = ByHeight::new(&piece_ranges, y_lo, y_hi);
@@ -693,7 +696,7 @@ impl Plane {
         if s.xs.len() < 2 {
             return (0.0, 0.0);
         }
-        s.xs.sort_by(f64::total_cmp);
+        s.xs.sort_unstable_by(f64::total_cmp);
         let k6 = self.k6;
         let total: f64 =
             s.xs.chunks_exact(2)
@@ -732,7 +735,7 @@ impl Plane {
                     }
                 }
             }
-            s.inside.sort_by(f64::total_cmp);
+            s.inside.sort_unstable_by(f64::total_cmp);
             let below = interior.vertical.partition_point(|&v| v < c);
             let mut inside = interior.inside_at_ref ^ (below % 2 == 1);
             let mut from = interior.x_ref;
@@ -750,7 +753,7 @@ impl Plane {
         if s.covered.is_empty() {
             return (total, 0.0);
         }
-        s.covered.sort_by(|a, b| a.0.total_cmp(&b.0));
+        s.covered.sort_unstable_by(|a, b| a.0.total_cmp(&b.0));
         // Merge, then measure the overlap with g's intervals.
         let mut merged: Vec<(f64, f64)> = Vec::with_capacity(s.covered.len());
         for &iv in &s.covered {
@@ -932,7 +935,7 @@ fn feature_in_plane(
     f: &Feature,
     frame: &AzimuthalFrame,
     g_box: &LonLatBox,
-    rho: f64,
+    (rho, plane_box): (f64, [f64; 4]),
     reference: (f64, f64),
     top_right: (f64, f64),
     pieces: &mut Vec<Piece>,
@@ -942,12 +945,15 @@ fn feature_in_plane(
     let geometry = &f.geometry;
     let has_interior = !geometry.polygons.is_empty();
     // The reference point may move up to REFERENCE_SHIFT metres (below).
-    let grow = if has_interior {
-        f.reach.max(rho + REFERENCE_SHIFT)
+    let query = if has_interior && rho + REFERENCE_SHIFT > f.reach {
+        match path_box(frame, reference, top_right) {
+            Some(path) => g_box.grown(f.reach).union(&path),
+            None => g_box.grown(rho + REFERENCE_SHIFT),
+        }
     } else {
-        f.reach
+        g_box.grown(f.reach)
     };
-    let mut near = geometry.elements_near(&g_box.grown(grow));
+    let mut near = geometry.elements_near(&query);
     near.sort_unstable();
     let mut ring_edges = Vec::new();
     let mut last: Option<((f64, f64), (f64, f64))> = None;
@@ -972,9 +978,17 @@ fn feature_in_plane(
                 let (pa, pb) = (project(a), project(b));
                 let ring = geometry.owner(k).is_some();
                 let mut add = |pa: (f64, f64), pb: (f64, f64)| {
-                    breaks.extend([pa, pb]);
-                    if f.reach > 0.0 {
-                        pieces.push(Piece::capsule(pa, pb, f.reach));
+                    // Elements fetched only for the interior's crossings
+                    // (beyond reach of g's box in the plane) add no piece.
+                    if capsule_meets_box(pa, pb, f.reach, &plane_box) {
+                        if f.reach > 0.0 {
+                            // The vertices lie strictly inside the covered
+                            // part (within 0 < reach of the feature), so
+                            // the interior's kinks there change nothing.
+                            pieces.push(Piece::capsule(pa, pb, f.reach));
+                        } else {
+                            breaks.extend([pa, pb]);
+                        }
                     }
                     if ring {
                         ring_edges.push(Seg { a: pa, b: pb });
@@ -983,7 +997,7 @@ fn feature_in_plane(
                 if (pb.0 - pa.0).hypot(pb.1 - pa.1) > CHORD_METRES {
                     // A long geodesic edge: its parts near g, as chords of
                     // at most a 64th of it (or CHORD_METRES).
-                    let near_g = g_box.grown(grow + 1_000.0);
+                    let near_g = query.grown(1_000.0);
                     for (qa, qb) in geodesic_parts(a, b, &near_g) {
                         add(frame.forward(qa), frame.forward(qb));
                     }
@@ -1030,6 +1044,272 @@ fn feature_in_plane(
         vertical,
         inside_at_ref,
     });
+}
+
+/// A longitude-latitude box holding the plane's rectangle from `reference`
+/// (less [`REFERENCE_SHIFT`] metres) to `top_right`, where an interior's
+/// parity paths run (up from the reference point, then along each line):
+/// every edge that crosses those paths has a box meeting it. The
+/// rectangle's sides are mapped back at 32 points each and the box grown
+/// by 1 km, far more than an image of a side strays from its samples'
+/// box between two samples (under 2 km apart within 25 km of the centre).
+/// None near a pole (the rectangle may hold it), where the caller falls
+/// back to `g`'s box grown by the rectangle's distance from the centre.
+fn path_box(
+    frame: &AzimuthalFrame,
+    reference: (f64, f64),
+    top_right: (f64, f64),
+) -> Option<LonLatBox> {
+    const SAMPLES: usize = 32;
+    let (x0, y0) = (reference.0 - REFERENCE_SHIFT, reference.1 - REFERENCE_SHIFT);
+    let (x1, y1) = top_right;
+    let centre = frame.reverse((0.0, 0.0));
+    let far = [x0, x1]
+        .iter()
+        .flat_map(|&x| [y0, y1].map(|y| f64::hypot(x, y)))
+        .fold(0.0, f64::max);
+    if !far.is_finite() || centre.1.abs() + far / 100_000.0 + 0.1 > 89.0 {
+        return None;
+    }
+    let mut b: Option<LonLatBox> = None;
+    for k in 0..=SAMPLES {
+        let t = k as f64 / SAMPLES as f64;
+        let (x, y) = (x0 + t * (x1 - x0), y0 + t * (y1 - y0));
+        for xy in [(x, y0), (x, y1), (x0, y), (x1, y)] {
+            let (lon, lat) = frame.reverse(xy);
+            let lon = centre.0 + wrap_delta(centre.0, lon);
+            if !(lon.is_finite() && lat.is_finite()) {
+                return None;
+            }
+            b = Some(match b {
+                None => LonLatBox {
+                    lon_lo: lon,
+                    lon_hi: lon,
+                    lat_lo: lat,
+                    lat_hi: lat,
+                },
+                Some(b) => LonLatBox {
+                    lon_lo: b.lon_lo.min(lon),
+                    lon_hi: b.lon_hi.max(lon),
+                    lat_lo: b.lat_lo.min(lat),
+                    lat_hi: b.lat_hi.max(lat),
+                },
+            });
+        }
+    }
+    b.map(|b| b.grown(1_000.0))
+}
+
+/// True when the box of the capsule of radius `r` around a-b meets the box
+/// `[x_lo, x_hi, y_lo, y_hi]` (`g`'s extent in the plane): a capsule whose
+/// box does not cannot cover any of `g`.
+fn capsule_meets_box(a: (f64, f64), b: (f64, f64), r: f64, bx: &[f64; 4]) -> bool {
+    let r = r.max(0.0);
+    a.0.min(b.0) - r <= bx[1]
+        && a.0.max(b.0) + r >= bx[0]
+        && a.1.min(b.1) - r <= bx[3]
+        && a.1.max(b.1) + r >= bx[2]
+}
+
+/// How many capsules on each side of a capsule (in the order its feature
+/// gave them, which follows its rings) may vouch for it in
+/// [`drop_covered_capsules`].
+const COVER_WINDOW: usize = 128;
+
+/// Removes from `pieces[first..]` capsules that lie wholly inside the union
+/// of discs of radius r around end points of capsules that are kept (all
+/// capsules of one feature share one radius r), so lines section fewer
+/// pieces without changing the covered set by a single point. Next to a
+/// densely digitised park (thousands of edges a metre long within reach
+/// of g) most capsules are of this kind.
+///
+/// The test, exact: a capsule around a-b with radius r lies within the
+/// union of the discs of radius r around points u, each no farther than
+/// r/2 from a and from b, when every unit direction d has a u with
+/// d·(u−a) >= |u−a|²/(2r) and d·(u−b) >= |u−b|²/(2r). Proof: both sides
+/// are linear and convex in the end point, so the inequality holds for
+/// every q of a-b; a point w = q + s d (0 <= s <= r) of the capsule then
+/// has |w−u|² = |q−u|² − 2s d·(u−q) + s² <= |q−u|² (1 − s/r) + s²
+/// <= r² − rs + s² <= r². For one u the good directions form an arc of
+/// half-width acos(|u−a|/(2r)) around u−a, met with its like for b; the
+/// capsule goes when these arcs, each narrowed a little (1e-9 of a
+/// quarter turn), cover the circle. The capsules whose end points were used are marked kept for
+/// good (so nothing removed later takes away a disc that vouched for an
+/// earlier removal), and a capsule used as such is never removed itself.
+fn drop_covered_capsules(
+    pieces: &mut Vec<Piece>,
+    first: usize,
+    stop: &dyn Interrupt,
+) -> Result<(), ShareError> {
+    let n = pieces.len() - first;
+    if n < 3 {
+        return Ok(());
+    }
+    const GONE: u8 = 1;
+    const LOCKED: u8 = 2;
+    let mut state = vec![0u8; n];
+    let mut arcs: Vec<(f64, f64, usize)> = Vec::new();
+    let mut chosen: Vec<usize> = Vec::new();
+    for i in 0..n {
+        if i % CHECK_EVERY == CHECK_EVERY - 1 {
+            stop.check()?;
+        }
+        if state[i] != 0 {
+            continue;
+        }
+        let Piece::Capsule { a, b, r, .. } = pieces[first + i] else {
+            continue;
+        };
+        let (lo, hi) = (
+            i.saturating_sub(COVER_WINDOW),
+            (i + COVER_WINDOW + 1).min(n),
+        );
+        // The arcs of the window's end points, from capsules kept for good
+        // first (so that fewer capsules are pinned and fewer arcs computed),
+        // then from the others still present.
+        let add_arcs = |arcs: &mut Vec<(f64, f64, usize)>, locked: bool| {
+            for j in lo..hi {
+                if j == i || state[j] & GONE != 0 || (state[j] & LOCKED != 0) != locked {
+                    continue;
+                }
+                let Piece::Capsule {
+                    a: ja,
+                    b: jb,
+                    r: jr,
+                    ..
+                } = pieces[first + j]
+                else {
+                    continue;
+                };
+                if jr != r {
+                    continue;
+                }
+                for u in [ja, jb] {
+                    if let Some((start, end)) = good_directions(a, b, u, r) {
+                        arcs.push((start, end, j));
+                    }
+                }
+            }
+        };
+        arcs.clear();
+        add_arcs(&mut arcs, true);
+        if covers_circle(&mut arcs, &mut chosen) {
+            state[i] = GONE;
+            continue;
+        }
+        add_arcs(&mut arcs, false);
+        if covers_circle(&mut arcs, &mut chosen) {
+            state[i] = GONE;
+            for &j in &chosen {
+                state[j] |= LOCKED;
+            }
+        }
+    }
+    let mut k = 0;
+    pieces.retain(|_| {
+        let keep = k < first || state[k - first] & GONE == 0;
+        k += 1;
+        keep
+    });
+    Ok(())
+}
+
+/// One turn in [`pseudo_angle`] units.
+const TURN: f64 = 4.0;
+
+/// A monotone stand-in for the angle of the direction (x, y) from the x
+/// axis, in [0, 4): each quarter turn maps to one unit, and the opposite
+/// direction lies exactly 2 further on (common practice, no source; no
+/// trigonometry needed). (0, 0) is never asked.
+fn pseudo_angle(x: f64, y: f64) -> f64 {
+    if y >= 0.0 {
+        if x >= 0.0 {
+            y / (x + y)
+        } else {
+            1.0 - x / (y - x)
+        }
+    } else if x < 0.0 {
+        2.0 - y / (-x - y)
+    } else {
+        3.0 + x / (x - y)
+    }
+}
+
+/// The arc of unit directions d (in [`pseudo_angle`] units, start in
+/// [0, 4), end > start) with d·(u−a) >= |u−a|²/(2r) and
+/// d·(u−b) >= |u−b|²/(2r), narrowed by 1e-9 at each end; None when empty
+/// or when u is not within r/2 of both a and b, or coincides with either.
+/// For one end point p the good directions are those within
+/// acos(|u−p|/(2r)) (less than a quarter turn) of u−p; their end
+/// directions are u−p turned both ways by that angle.
+fn good_directions(a: (f64, f64), b: (f64, f64), u: (f64, f64), r: f64) -> Option<(f64, f64)> {
+    const NARROW: f64 = 1e-9;
+    let arc = |p: (f64, f64)| -> Option<(f64, f64)> {
+        let (dx, dy) = (u.0 - p.0, u.1 - p.1);
+        let d = dx.hypot(dy);
+        if !(d > 0.0 && d <= 0.5 * r) {
+            return None;
+        }
+        let (cx, cy) = (dx / d, dy / d);
+        let cos = d / (2.0 * r);
+        let sin = (1.0 - cos * cos).sqrt();
+        let start = pseudo_angle(cx * cos + cy * sin, cy * cos - cx * sin);
+        let mut end = pseudo_angle(cx * cos - cy * sin, cy * cos + cx * sin);
+        if end < start {
+            end += TURN;
+        }
+        Some((start + NARROW, end - NARROW))
+    };
+    let (s1, e1) = arc(a)?;
+    let (s2, e2) = arc(b)?;
+    // Each arc is shorter than half a turn: they meet, if at all, with
+    // their middles less than half a turn apart.
+    let shift = (((s1 + e1) - (s2 + e2)) / 2.0 / TURN).round() * TURN;
+    let lo = s1.max(s2 + shift);
+    let hi = e1.min(e2 + shift);
+    if lo.is_nan() || hi.is_nan() || lo >= hi {
+        return None;
+    }
+    let start = lo.rem_euclid(TURN);
+    Some((start, start + (hi - lo)))
+}
+
+/// True when the arcs (in [`pseudo_angle`] units: start in [0, 4), end >
+/// start, each shorter than half a turn)
+/// cover the whole circle; then `chosen` holds the tags of arcs that do
+/// (picked greedily, each reaching farthest).
+fn covers_circle(arcs: &mut [(f64, f64, usize)], chosen: &mut Vec<usize>) -> bool {
+    chosen.clear();
+    // The arc over angle 0 that reaches farthest past it.
+    let Some(&(wrap_start, wrap_end, wrap_tag)) = arcs
+        .iter()
+        .filter(|a| a.1 > TURN)
+        .max_by(|x, y| x.1.total_cmp(&y.1))
+    else {
+        return false;
+    };
+    let mut reach = wrap_end - TURN;
+    chosen.push(wrap_tag);
+    arcs.sort_unstable_by(|x, y| x.0.total_cmp(&y.0));
+    let mut k = 0;
+    // The farthest-reaching arc among those starting before `reach`.
+    let mut best: Option<(f64, usize)> = None;
+    while reach < wrap_start {
+        while k < arcs.len() && arcs[k].0 < reach {
+            if best.is_none_or(|(e, _)| arcs[k].1 > e) {
+                best = Some((arcs[k].1, arcs[k].2));
+            }
+            k += 1;
+        }
+        match best {
+            Some((end, tag)) if end > reach => {
+                reach = end;
+                chosen.push(tag);
+            }
+            _ => return false,
+        }
+    }
+    true
 }
 
 /// True when (x, y) lies in one of `g`'s intervals on the line through it,
@@ -1187,6 +1467,90 @@ mod tests {
         // And not beyond: x^24 is not exact for Kronrod, x^14 not for Gauss.
         let kr = rule(&KRONROD_NODES, &KRONROD_WEIGHTS, |x| x.powi(24));
         assert!((kr - 2.0 / 25.0).abs() > 1e-9);
+    }
+
+    /// Length of the union of the pieces' sections on the line y = c.
+    fn union_length(pieces: &[Piece], c: f64) -> f64 {
+        let mut ivs: Vec<(f64, f64)> = pieces.iter().filter_map(|p| p.section(c)).collect();
+        ivs.sort_by(|a, b| a.0.total_cmp(&b.0));
+        let (mut total, mut cur): (f64, Option<(f64, f64)>) = (0.0, None);
+        for iv in ivs {
+            cur = match cur {
+                Some(c) if iv.0 <= c.1 => Some((c.0, c.1.max(iv.1))),
+                Some(c) => {
+                    total += c.1 - c.0;
+                    Some(iv)
+                }
+                None => Some(iv),
+            };
+        }
+        total + cur.map_or(0.0, |c| c.1 - c.0)
+    }
+
+    /// Dropping covered capsules leaves the union of a ragged chain's
+    /// capsules unchanged on every line (brute force: the union of all
+    /// sections, before and after, on 2,000 lines), and drops most of them
+    /// (the chain wiggles by about a metre per metre; reach 50 m).
+    #[test]
+    fn dropping_covered_capsules_keeps_the_union() {
+        // A fixed-seed ragged chain: a random walk northwards.
+        let mut seed: u64 = 0x9e37_79b9_7f4a_7c15;
+        let mut unit = || {
+            seed ^= seed << 13;
+            seed ^= seed >> 7;
+            seed ^= seed << 17;
+            (seed >> 11) as f64 / (1u64 << 53) as f64
+        };
+        let mut pts = vec![(0.0, 0.0)];
+        for _ in 0..600 {
+            let &(x, y) = pts.last().unwrap();
+            pts.push((x + 2.0 * unit() - 1.0, y + 1.2 * unit() - 0.2));
+        }
+        let r = 50.0;
+        let all: Vec<Piece> = pts
+            .windows(2)
+            .map(|w| Piece::capsule(w[0], w[1], r))
+            .collect();
+        let mut kept = all.clone();
+        drop_covered_capsules(&mut kept, 0, &crate::interrupt::Never).unwrap();
+        assert!(
+            kept.len() * 3 < all.len(),
+            "kept {} of {}",
+            kept.len(),
+            all.len()
+        );
+        let (y_lo, y_hi) = all
+            .iter()
+            .map(Piece::y_range)
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |a, b| {
+                (a.0.min(b.0), a.1.max(b.1))
+            });
+        for k in 0..2000 {
+            let c = y_lo + (y_hi - y_lo) * (k as f64 + 0.5) / 2000.0;
+            let (want, got) = (union_length(&all, c), union_length(&kept, c));
+            assert!(
+                (want - got).abs() <= 1e-9 * want.max(1.0),
+                "line {c}: {want} vs {got}"
+            );
+        }
+    }
+
+    /// Arcs over the circle: three arcs of 150 degrees cover it, two do not
+    /// (common practice, no source).
+    #[test]
+    fn arcs_cover_the_circle_only_when_they_do() {
+        let deg = |d: f64| d / 90.0;
+        let mut chosen = Vec::new();
+        let mut three = vec![
+            (deg(0.0), deg(150.0), 0),
+            (deg(120.0), deg(270.0), 1),
+            (deg(250.0), deg(400.0), 2),
+        ];
+        assert!(covers_circle(&mut three, &mut chosen));
+        chosen.sort_unstable();
+        assert_eq!(chosen, vec![0, 1, 2]);
+        let mut two = vec![(deg(0.0), deg(150.0), 0), (deg(200.0), deg(370.0), 1)];
+        assert!(!covers_circle(&mut two, &mut chosen));
     }
 
     #[test]
