@@ -4,7 +4,7 @@
 //! Level 1 holds one ball per run of [`FAN`] consecutive elements, level
 //! `k + 1` one ball per run of [`FAN`] balls of level `k`, and the top level
 //! a single ball; level 0 stands for the elements themselves (their balls
-//! are in [`Prepared::elements`]). Consecutive edges of a line or ring lie
+//! are in [`Prepared::balls`]). Consecutive edges of a line or ring lie
 //! next to each other, so runs make small balls; a run that spans two
 //! rings, or isolated points in no particular order, only makes a larger
 //! ball (weaker pruning, never a wrong answer). About 7 bytes per element.
@@ -29,7 +29,7 @@ use crate::geodesy::inverse;
 use crate::interrupt::Interrupt;
 use crate::memory;
 use crate::proximity::boxes::LonLatBox;
-use crate::proximity::prepared::{arc_upper, chord_lower, Ball, Element, MAX_BALL_RADIUS};
+use crate::proximity::prepared::{arc_upper, chord_lower, Ball, MAX_BALL_RADIUS};
 
 /// Children per group.
 pub const FAN: usize = 8;
@@ -62,10 +62,7 @@ pub struct BallTree {
 impl BallTree {
     /// The tree over `elements` (empty for no elements). Asks `stop` every
     /// few thousand groups; arrays are allocated fallibly.
-    pub fn build(
-        elements: &[(Element, Ball)],
-        stop: &dyn Interrupt,
-    ) -> Result<BallTree, GeomError> {
+    pub fn build(elements: &[Ball], stop: &dyn Interrupt) -> Result<BallTree, GeomError> {
         let mut levels: Vec<Vec<Ball>> = Vec::new();
         if elements.is_empty() {
             return Ok(BallTree {
@@ -90,7 +87,7 @@ impl BallTree {
                 }
                 let range = g * FAN..((g + 1) * FAN).min(n);
                 level.push(if first {
-                    group(range.map(|k| &elements[k].1))
+                    group(range.map(|k| &elements[k]))
                 } else {
                     group(range.map(|k| &children[k]))
                 });
@@ -120,9 +117,9 @@ impl BallTree {
     }
 
     /// The ball of `node`; `elements` are those the tree was built over.
-    pub fn ball<'a>(&'a self, node: Node, elements: &'a [(Element, Ball)]) -> &'a Ball {
+    pub fn ball<'a>(&'a self, node: Node, elements: &'a [Ball]) -> &'a Ball {
         if node.level == 0 {
-            &elements[node.index as usize].1
+            &elements[node.index as usize]
         } else {
             &self.levels[node.level as usize - 1][node.index as usize]
         }
@@ -156,7 +153,7 @@ impl BallTree {
     /// exactly).
     pub fn elements_meeting(
         &self,
-        elements: &[(Element, Ball)],
+        elements: &[Ball],
         queries: &[rstar::AABB<[f64; 2]>],
         out: &mut Vec<usize>,
     ) {
@@ -236,7 +233,7 @@ pub fn tight_gap(a: &Ball, b: &Ball, chord_gap: f64) -> f64 {
 /// ball centre grown by its radius (a chord never exceeds the geodesic),
 /// rounded outward by 1 mm. A whole-Earth box when some radius is infinite;
 /// `None` for no elements.
-pub fn space_box(elements: &[(Element, Ball)]) -> Option<[f64; 6]> {
+pub fn space_box(elements: &[Ball]) -> Option<[f64; 6]> {
     if elements.is_empty() {
         return None;
     }
@@ -249,7 +246,7 @@ pub fn space_box(elements: &[(Element, Ball)]) -> Option<[f64; 6]> {
         f64::NEG_INFINITY,
         f64::NEG_INFINITY,
     ];
-    for (_, ball) in elements {
+    for ball in elements {
         if !ball.radius.is_finite() {
             return Some([-whole, -whole, -whole, whole, whole, whole]);
         }
@@ -283,12 +280,12 @@ mod tests {
             })
             .collect();
         let p = Prepared::new(&wkt::parse(&format!("POLYGON (({}))", ring.join(", "))).unwrap());
-        let tree = BallTree::build(&p.elements, &Never).unwrap();
+        let tree = BallTree::build(&p.balls, &Never).unwrap();
         let root = tree.root().unwrap();
         let mut stack = vec![(root, Vec::<Ball>::new())];
         let mut seen = 0;
         while let Some((node, ancestors)) = stack.pop() {
-            let ball = *tree.ball(node, &p.elements);
+            let ball = *tree.ball(node, &p.balls);
             if node.level == 0 {
                 seen += 1;
                 for a in &ancestors {
@@ -301,6 +298,6 @@ mod tests {
                 stack.push((c, next.clone()));
             }
         }
-        assert_eq!(seen, p.elements.len());
+        assert_eq!(seen, p.element_count());
     }
 }

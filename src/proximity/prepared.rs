@@ -193,9 +193,14 @@ pub struct Prepared {
     /// For each polygon and ring: does the ring enclose the north pole
     /// (see [`crate::proximity::contain`]).
     pub north_pole_rings: Vec<Vec<bool>>,
-    /// Every element with its ball.
-    pub elements: Vec<(Element, Ball)>,
-    /// Where each ring's edges begin in `elements`, in order, with the
+    /// The ball of every element, in element order: the isolated points,
+    /// then the edges of every line, then those of every ring. The
+    /// elements themselves are not stored: [`Prepared::element`] reads
+    /// them from the vertex arrays above.
+    pub balls: Vec<Ball>,
+    /// Where each line's edges begin in `balls`, in order.
+    pub line_starts: Vec<u32>,
+    /// Where each ring's edges begin in `balls`, in order, with the
     /// ring ([`Prepared::owner`] reads it).
     pub ring_starts: Vec<(u32, RingRef)>,
     /// A ball around the whole geometry (`None` when empty).
@@ -304,7 +309,7 @@ impl Prepared {
     pub fn estimated_bytes(g: &Geometry) -> usize {
         let n = g.vertex_count();
         let per_vertex = std::mem::size_of::<LonLat>()
-            + std::mem::size_of::<(Element, Ball)>()
+            + std::mem::size_of::<Ball>()
             + std::mem::size_of::<[f64; 3]>();
         std::mem::size_of::<Prepared>()
             + n.saturating_mul(per_vertex)
@@ -315,7 +320,7 @@ impl Prepared {
     /// [`BallTree::build`] for `stop` and the errors).
     pub fn add_ball_tree(&mut self, stop: &dyn Interrupt) -> Result<(), GeomError> {
         if self.tree.is_none() {
-            self.tree = Some(BallTree::build(&self.elements, stop)?);
+            self.tree = Some(BallTree::build(&self.balls, stop)?);
         }
         Ok(())
     }
@@ -376,30 +381,29 @@ impl Prepared {
             .map(|c| c.len().saturating_sub(1))
             .sum::<usize>();
         let total = self.points.len() + chains;
-        let mut elements = memory::vec_with_capacity(total)?;
+        let mut elements: Vec<Ball> = memory::vec_with_capacity(total)?;
         for &p in &self.points {
-            elements.push((Element::Point(p), Ball::point(p)));
+            elements.push(Ball::point(p));
         }
         let mut ring_starts = Vec::new();
+        let mut line_starts = Vec::new();
         let mut xyz: Vec<[f64; 3]> = Vec::new();
-        let mut edges =
-            |chain: &[LonLat], out: &mut Vec<(Element, Ball)>| -> Result<(), GeomError> {
-                xyz.clear();
-                memory::reserve(&mut xyz, chain.len())?;
-                xyz.extend(chain.iter().map(|&p| ecef(p)));
-                for k in 0..chain.len().saturating_sub(1) {
-                    if k % CHECK_EVERY == CHECK_EVERY - 1 {
-                        stop.check()?;
-                    }
-                    let (a, b) = (chain[k], chain[k + 1]);
-                    out.push((
-                        Element::Edge(a, b),
-                        Ball::edge_from(a, b, &xyz[k], &xyz[k + 1]),
-                    ));
+        let mut edges = |chain: &[LonLat], out: &mut Vec<Ball>| -> Result<(), GeomError> {
+            xyz.clear();
+            memory::reserve(&mut xyz, chain.len())?;
+            xyz.extend(chain.iter().map(|&p| ecef(p)));
+            for k in 0..chain.len().saturating_sub(1) {
+                if k % CHECK_EVERY == CHECK_EVERY - 1 {
+                    stop.check()?;
                 }
-                Ok(())
-            };
+                let (a, b) = (chain[k], chain[k + 1]);
+                out.push(Ball::edge_from(a, b, &xyz[k], &xyz[k + 1]));
+            }
+            Ok(())
+        };
         for line in &self.lines {
+            memory::reserve_one(&mut line_starts)?;
+            line_starts.push(elements.len() as u32);
             edges(line, &mut elements)?;
         }
         for (pi, rings) in self.polygons.iter().enumerate() {
@@ -425,9 +429,50 @@ impl Prepared {
         if elements.len() > ELEMENT_INDEX_MIN {
             self.tree = Some(BallTree::build(&elements, stop)?);
         }
-        self.elements = elements;
+        self.balls = elements;
+        self.line_starts = line_starts;
         self.ring_starts = ring_starts;
         Ok(())
+    }
+
+    /// Element `i` (below [`Prepared::element_count`]), read from the
+    /// vertex arrays: an isolated point, or the edge from vertex `k` to
+    /// vertex `k + 1` of its line or ring.
+    #[inline]
+    pub fn element(&self, i: usize) -> Element {
+        if i < self.points.len() {
+            return Element::Point(self.points[i]);
+        }
+        let in_lines = self
+            .ring_starts
+            .first()
+            .is_none_or(|&(start, _)| i < start as usize);
+        let (chain, start) = if in_lines {
+            let k = self
+                .line_starts
+                .partition_point(|&start| start as usize <= i)
+                - 1;
+            (&self.lines[k], self.line_starts[k])
+        } else {
+            let k = self
+                .ring_starts
+                .partition_point(|&(start, _)| start as usize <= i)
+                - 1;
+            let (start, r) = self.ring_starts[k];
+            (&self.polygons[r.polygon as usize][r.ring as usize], start)
+        };
+        let k = i - start as usize;
+        Element::Edge(chain[k], chain[k + 1])
+    }
+
+    /// How many elements (isolated points and edges) the geometry has.
+    pub fn element_count(&self) -> usize {
+        self.balls.len()
+    }
+
+    /// Every element, in order (see [`Prepared::element`]).
+    pub fn elements(&self) -> impl Iterator<Item = Element> + '_ {
+        (0..self.balls.len()).map(|i| self.element(i))
     }
 
     /// The ring element `i` bounds (`None` for points and line edges).
@@ -445,10 +490,10 @@ impl Prepared {
             Some(tree) if self.indexed() => {
                 let (parts, n) = query.normalised_parts();
                 let mut found = Vec::new();
-                tree.elements_meeting(&self.elements, &parts[..n], &mut found);
+                tree.elements_meeting(&self.balls, &parts[..n], &mut found);
                 found
             }
-            _ => (0..self.elements.len()).collect(),
+            _ => (0..self.balls.len()).collect(),
         }
     }
 
@@ -456,12 +501,12 @@ impl Prepared {
     /// elements: its element index ([`Prepared::tree`]) is asked rather
     /// than every element scanned.
     pub fn indexed(&self) -> bool {
-        self.elements.len() > ELEMENT_INDEX_MIN && self.tree.is_some()
+        self.balls.len() > ELEMENT_INDEX_MIN && self.tree.is_some()
     }
 
     /// True when the geometry has no vertex.
     pub fn is_empty(&self) -> bool {
-        self.elements.is_empty()
+        self.balls.is_empty()
     }
 
     /// The vertices from which containment is probed: every isolated point
@@ -480,10 +525,10 @@ impl Prepared {
 
 /// A ball around all elements: centred on the middle of their centres'
 /// longitude/latitude box (longitudes unwrapped around the first centre).
-fn whole_ball(elements: &[(Element, Ball)]) -> Option<Ball> {
-    let first = elements.first()?.1.centre;
+fn whole_ball(elements: &[Ball]) -> Option<Ball> {
+    let first = elements.first()?.centre;
     let (mut lo_x, mut hi_x, mut lo_y, mut hi_y) = (0.0f64, 0.0f64, first.1, first.1);
-    for (_, b) in elements {
+    for b in elements {
         let x = wrap_delta(first.0, b.centre.0);
         lo_x = lo_x.min(x);
         hi_x = hi_x.max(x);
@@ -493,7 +538,7 @@ fn whole_ball(elements: &[(Element, Ball)]) -> Option<Ball> {
     let centre = (first.0 + (lo_x + hi_x) / 2.0, (lo_y + hi_y) / 2.0);
     let xyz = ecef(centre);
     let mut radius = 0.0f64;
-    for (_, b) in elements {
+    for b in elements {
         radius = radius.max(arc_upper(&xyz, &b.xyz) + b.radius);
     }
     Some(Ball {
@@ -540,8 +585,8 @@ fn winds_around_a_pole(ring: &[LonLat]) -> bool {
     turn.abs() > 180.0
 }
 
-fn bounding_box(elements: &[(Element, Ball)]) -> Option<LonLatBox> {
-    let first = elements.first()?.1.centre;
+fn bounding_box(elements: &[Ball]) -> Option<LonLatBox> {
+    let first = elements.first()?.centre;
     let mut b = LonLatBox {
         lon_lo: first.0,
         lon_hi: first.0,
@@ -549,7 +594,7 @@ fn bounding_box(elements: &[(Element, Ball)]) -> Option<LonLatBox> {
         lat_hi: first.1,
     };
     let mut radius = 0.0f64;
-    for (_, ball) in elements {
+    for ball in elements {
         let x = first.0 + wrap_delta(first.0, ball.centre.0);
         b.lon_lo = b.lon_lo.min(x);
         b.lon_hi = b.lon_hi.max(x);
@@ -576,7 +621,10 @@ mod tests {
         assert_eq!(p.points, vec![(1.0, 2.0)]);
         assert_eq!(p.lines.len(), 1);
         assert_eq!(p.polygons.len(), 1);
-        assert_eq!(p.elements.len(), 1 + 2 + 3);
+        assert_eq!(p.element_count(), 1 + 2 + 3);
+        assert_eq!(p.element(0), Element::Point((1.0, 2.0)));
+        assert_eq!(p.element(2), Element::Edge((1.0, 1.0), (2.0, 1.0)));
+        assert_eq!(p.element(5), Element::Edge((1.0, 1.0), (0.0, 0.0)));
         assert_eq!(p.probes().count(), 3);
     }
 
