@@ -29,7 +29,9 @@ use crate::geodesy::inverse;
 use crate::interrupt::Interrupt;
 use crate::memory;
 use crate::proximity::boxes::LonLatBox;
-use crate::proximity::prepared::{arc_upper, chord_lower, Ball, MAX_BALL_RADIUS};
+use crate::proximity::prepared::{
+    arc_upper, chord_lower, Ball, BallCore, Prepared, MAX_BALL_RADIUS,
+};
 
 /// Children per group.
 pub const FAN: usize = 8;
@@ -60,11 +62,12 @@ pub struct BallTree {
 }
 
 impl BallTree {
-    /// The tree over `elements` (empty for no elements). Asks `stop` every
-    /// few thousand groups; arrays are allocated fallibly.
-    pub fn build(elements: &[Ball], stop: &dyn Interrupt) -> Result<BallTree, GeomError> {
+    /// The tree over the elements of `g` (empty for no elements). Asks
+    /// `stop` every few thousand groups; arrays are allocated fallibly.
+    pub fn build(g: &Prepared, stop: &dyn Interrupt) -> Result<BallTree, GeomError> {
+        let count = g.element_count();
         let mut levels: Vec<Vec<Ball>> = Vec::new();
-        if elements.is_empty() {
+        if count == 0 {
             return Ok(BallTree {
                 levels,
                 elements: 0,
@@ -74,22 +77,27 @@ impl BallTree {
         let mut first = true;
         loop {
             let children: &[Ball] = if first { &[] } else { &below };
-            let n = if first {
-                elements.len()
-            } else {
-                children.len()
-            };
+            let n = if first { count } else { children.len() };
             let groups = n.div_ceil(FAN);
             let mut level: Vec<Ball> = memory::vec_with_capacity(groups)?;
-            for g in 0..groups {
-                if g % CHECK_EVERY == CHECK_EVERY - 1 {
+            for at in 0..groups {
+                if at % CHECK_EVERY == CHECK_EVERY - 1 {
                     stop.check()?;
                 }
-                let range = g * FAN..((g + 1) * FAN).min(n);
+                let range = at * FAN..((at + 1) * FAN).min(n);
                 level.push(if first {
-                    group(range.map(|k| &elements[k]))
+                    let mut run = [Ball {
+                        centre: (0.0, 0.0),
+                        radius: 0.0,
+                        xyz: [0.0; 3],
+                    }; FAN];
+                    let len = range.len();
+                    for (slot, k) in run.iter_mut().zip(range) {
+                        *slot = g.ball(k);
+                    }
+                    group(&run[..len])
                 } else {
-                    group(range.map(|k| &children[k]))
+                    group(&children[range])
                 });
             }
             first = false;
@@ -104,7 +112,7 @@ impl BallTree {
         }
         Ok(BallTree {
             levels,
-            elements: elements.len(),
+            elements: count,
         })
     }
 
@@ -116,12 +124,25 @@ impl BallTree {
         })
     }
 
-    /// The ball of `node`; `elements` are those the tree was built over.
-    pub fn ball<'a>(&'a self, node: Node, elements: &'a [Ball]) -> &'a Ball {
+    /// The ball of `node`; `g` is the geometry the tree was built over.
+    #[inline]
+    pub fn ball(&self, node: Node, g: &Prepared) -> Ball {
         if node.level == 0 {
-            &elements[node.index as usize]
+            g.ball(node.index as usize)
         } else {
-            &self.levels[node.level as usize - 1][node.index as usize]
+            self.levels[node.level as usize - 1][node.index as usize]
+        }
+    }
+
+    /// The centre's Earth-centred coordinates and the radius of `node`'s
+    /// ball (what [`Ball::gap`] needs, without deriving an element's
+    /// (lon, lat) centre).
+    #[inline]
+    pub fn core(&self, node: Node, g: &Prepared) -> BallCore {
+        if node.level == 0 {
+            g.balls[node.index as usize]
+        } else {
+            self.levels[node.level as usize - 1][node.index as usize].core()
         }
     }
 
@@ -153,14 +174,14 @@ impl BallTree {
     /// exactly).
     pub fn elements_meeting(
         &self,
-        elements: &[Ball],
+        g: &Prepared,
         queries: &[rstar::AABB<[f64; 2]>],
         out: &mut Vec<usize>,
     ) {
         let Some(root) = self.root() else { return };
         let mut stack = vec![root];
         while let Some(node) = stack.pop() {
-            if !LonLatBox::around(self.ball(node, elements), 0.0).meets(queries) {
+            if !LonLatBox::around(&self.ball(node, g), 0.0).meets(queries) {
                 continue;
             }
             if node.level == 0 {
@@ -190,12 +211,8 @@ impl BallTree {
 }
 
 /// The ball around a run of balls (module doc).
-fn group<'a>(children: impl Iterator<Item = &'a Ball> + Clone) -> Ball {
-    let count = children.clone().count();
-    let mid = *children
-        .clone()
-        .nth(count / 2)
-        .expect("a group has a child");
+fn group(children: &[Ball]) -> Ball {
+    let mid = children[children.len() / 2];
     let mut radius = 0.0f64;
     for c in children {
         radius = radius.max(arc_upper(&mid.xyz, &c.xyz) + c.radius);
@@ -233,7 +250,7 @@ pub fn tight_gap(a: &Ball, b: &Ball, chord_gap: f64) -> f64 {
 /// ball centre grown by its radius (a chord never exceeds the geodesic),
 /// rounded outward by 1 mm. A whole-Earth box when some radius is infinite;
 /// `None` for no elements.
-pub fn space_box(elements: &[Ball]) -> Option<[f64; 6]> {
+pub fn space_box(elements: &[BallCore]) -> Option<[f64; 6]> {
     if elements.is_empty() {
         return None;
     }
@@ -280,12 +297,12 @@ mod tests {
             })
             .collect();
         let p = Prepared::new(&wkt::parse(&format!("POLYGON (({}))", ring.join(", "))).unwrap());
-        let tree = BallTree::build(&p.balls, &Never).unwrap();
+        let tree = BallTree::build(&p, &Never).unwrap();
         let root = tree.root().unwrap();
         let mut stack = vec![(root, Vec::<Ball>::new())];
         let mut seen = 0;
         while let Some((node, ancestors)) = stack.pop() {
-            let ball = *tree.ball(node, &p.balls);
+            let ball = tree.ball(node, &p);
             if node.level == 0 {
                 seen += 1;
                 for a in &ancestors {

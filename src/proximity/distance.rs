@@ -120,7 +120,7 @@ fn elements_near(x: &Prepared, other: &Ball, cap: f64) -> Vec<usize> {
         (0..x.element_count()).collect()
     };
     near.into_iter()
-        .filter(|&i| x.balls[i].gap(other) <= cap)
+        .filter(|&i| x.balls[i].gap(&other.core()) <= cap)
         .collect()
 }
 
@@ -149,8 +149,8 @@ fn for_each_candidate(
     for &i in small {
         let found;
         let js: &[usize] = if indexed {
-            let ball = &small_geometry.balls[i];
-            found = large_geometry.elements_near(&LonLatBox::around(ball, cap));
+            let ball = small_geometry.ball(i);
+            found = large_geometry.elements_near(&LonLatBox::around(&ball, cap));
             &found
         } else {
             large_near
@@ -368,7 +368,7 @@ pub fn nearest_between(
         return Ok(f64::INFINITY);
     };
     let mut queue = std::collections::BinaryHeap::new();
-    let key = ta.ball(root_a, &a.balls).gap(tb.ball(root_b, &b.balls));
+    let key = ta.ball(root_a, a).gap(&tb.ball(root_b, b));
     queue.push(Pending {
         key,
         tight: false,
@@ -388,9 +388,9 @@ pub fn nearest_between(
             pops = 0;
             stop.check()?;
         }
-        let (ba, bb) = (ta.ball(item.a, &a.balls), tb.ball(item.b, &b.balls));
+        let (ba, bb) = (ta.ball(item.a, a), tb.ball(item.b, b));
         if !item.tight {
-            let key = tight_gap(ba, bb, item.key);
+            let key = tight_gap(&ba, &bb, item.key);
             if key > bound {
                 continue;
             }
@@ -428,7 +428,7 @@ pub fn nearest_between(
         let bound = best_exact.min(upper).min(cap);
         if split_b {
             for c in tb.children(item.b) {
-                let key = ba.gap(tb.ball(c, &b.balls));
+                let key = ba.core().gap(&tb.core(c, b));
                 if key <= bound {
                     queue.push(Pending {
                         key,
@@ -440,7 +440,7 @@ pub fn nearest_between(
             }
         } else {
             for c in ta.children(item.a) {
-                let key = ta.ball(c, &a.balls).gap(bb);
+                let key = ta.core(c, a).gap(&bb.core());
                 if key <= bound {
                     queue.push(Pending {
                         key,

@@ -77,7 +77,7 @@ impl Feature {
     pub fn bytes(&self) -> usize {
         let g = &self.geometry;
         std::mem::size_of::<Feature>()
-            + g.balls.capacity() * std::mem::size_of::<crate::proximity::prepared::Ball>()
+            + g.balls.capacity() * std::mem::size_of::<crate::proximity::prepared::BallCore>()
             + g.line_starts.capacity() * std::mem::size_of::<u32>()
             + g.ring_starts.capacity()
                 * std::mem::size_of::<(u32, crate::proximity::prepared::RingRef)>()
@@ -753,7 +753,7 @@ impl Layer {
                 let tree = match (&g.tree, &mut own) {
                     (Some(t), _) => t,
                     (None, Some(t)) => &*t,
-                    (None, slot) => &*slot.insert(BallTree::build(&g.balls, stop)?),
+                    (None, slot) => &*slot.insert(BallTree::build(g, stop)?),
                 };
                 nearest_between(g, tree, f, ft, cap, stop)?
             };

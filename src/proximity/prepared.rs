@@ -40,6 +40,36 @@ pub struct Ball {
     pub xyz: [f64; 3],
 }
 
+/// What [`Prepared`] stores of an element's [`Ball`]: its centre's
+/// Earth-centred coordinates and its radius (32 bytes instead of 48).
+/// The centre's (lon, lat) is derived from the element's vertices by
+/// [`Prepared::ball`], with the same arithmetic that made the ball, so the
+/// whole ball comes back bit for bit.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct BallCore {
+    pub xyz: [f64; 3],
+    pub radius: f64,
+}
+
+impl BallCore {
+    /// [`Ball::gap`] between two balls given by their cores (the same
+    /// arithmetic, so the same value).
+    #[inline]
+    pub fn gap(&self, other: &BallCore) -> f64 {
+        if self.radius.is_infinite() || other.radius.is_infinite() {
+            return f64::NEG_INFINITY;
+        }
+        chord_lower(&self.xyz, &other.xyz) - self.radius - other.radius
+    }
+}
+
+/// The (lon, lat) centre of the ball of the edge a-b ([`Ball::edge_from`]):
+/// the midpoint of the ends' longitudes (unwrapped) and latitudes.
+#[inline]
+pub fn edge_centre(a: LonLat, b: LonLat) -> LonLat {
+    (a.0 + wrap_delta(a.0, b.0) / 2.0, (a.1 + b.1) / 2.0)
+}
+
 /// Earth-centred, Earth-fixed Cartesian coordinates (metres) of a point on
 /// the WGS84 ellipsoid (height 0): x = N cos(lat) cos(lon),
 /// y = N cos(lat) sin(lon), z = N (1 - e^2) sin(lat) (NIMA TR8350.2, eq.
@@ -139,7 +169,7 @@ impl Ball {
     /// spans a chord of at least 2 M(0) sin(s / (2 M(0))), i.e.
     /// s <= 2 M(0) asin(chord / (2 M(0))).
     pub fn edge_from(a: LonLat, b: LonLat, xa: &[f64; 3], xb: &[f64; 3]) -> Ball {
-        let centre = (a.0 + wrap_delta(a.0, b.0) / 2.0, (a.1 + b.1) / 2.0);
+        let centre = edge_centre(a, b);
         let xyz = ecef(centre);
         let radius = arc_upper(&xyz, xa).max(arc_upper(&xyz, xb));
         Ball {
@@ -156,10 +186,16 @@ impl Ball {
     /// A lower bound on the distance between any point of `self` and any
     /// point of `other` (may be negative when the balls overlap).
     pub fn gap(&self, other: &Ball) -> f64 {
-        if self.radius.is_infinite() || other.radius.is_infinite() {
-            return f64::NEG_INFINITY;
+        self.core().gap(&other.core())
+    }
+
+    /// The ball's Earth-centred centre and radius.
+    #[inline]
+    pub fn core(&self) -> BallCore {
+        BallCore {
+            xyz: self.xyz,
+            radius: self.radius,
         }
-        chord_lower(&self.xyz, &other.xyz) - self.radius - other.radius
     }
 }
 
@@ -193,11 +229,12 @@ pub struct Prepared {
     /// For each polygon and ring: does the ring enclose the north pole
     /// (see [`crate::proximity::contain`]).
     pub north_pole_rings: Vec<Vec<bool>>,
-    /// The ball of every element, in element order: the isolated points,
-    /// then the edges of every line, then those of every ring. The
-    /// elements themselves are not stored: [`Prepared::element`] reads
-    /// them from the vertex arrays above.
-    pub balls: Vec<Ball>,
+    /// The ball of every element (without its (lon, lat) centre:
+    /// [`Prepared::ball`] gives the whole ball), in element order: the
+    /// isolated points, then the edges of every line, then those of every
+    /// ring. The elements themselves are not stored: [`Prepared::element`]
+    /// reads them from the vertex arrays above.
+    pub balls: Vec<BallCore>,
     /// Where each line's edges begin in `balls`, in order.
     pub line_starts: Vec<u32>,
     /// Where each ring's edges begin in `balls`, in order, with the
@@ -309,7 +346,7 @@ impl Prepared {
     pub fn estimated_bytes(g: &Geometry) -> usize {
         let n = g.vertex_count();
         let per_vertex = std::mem::size_of::<LonLat>()
-            + std::mem::size_of::<Ball>()
+            + std::mem::size_of::<BallCore>()
             + std::mem::size_of::<[f64; 3]>();
         std::mem::size_of::<Prepared>()
             + n.saturating_mul(per_vertex)
@@ -320,7 +357,8 @@ impl Prepared {
     /// [`BallTree::build`] for `stop` and the errors).
     pub fn add_ball_tree(&mut self, stop: &dyn Interrupt) -> Result<(), GeomError> {
         if self.tree.is_none() {
-            self.tree = Some(BallTree::build(&self.balls, stop)?);
+            let tree = BallTree::build(self, stop)?;
+            self.tree = Some(tree);
         }
         Ok(())
     }
@@ -381,14 +419,14 @@ impl Prepared {
             .map(|c| c.len().saturating_sub(1))
             .sum::<usize>();
         let total = self.points.len() + chains;
-        let mut elements: Vec<Ball> = memory::vec_with_capacity(total)?;
+        let mut elements: Vec<BallCore> = memory::vec_with_capacity(total)?;
         for &p in &self.points {
-            elements.push(Ball::point(p));
+            elements.push(Ball::point(p).core());
         }
         let mut ring_starts = Vec::new();
         let mut line_starts = Vec::new();
         let mut xyz: Vec<[f64; 3]> = Vec::new();
-        let mut edges = |chain: &[LonLat], out: &mut Vec<Ball>| -> Result<(), GeomError> {
+        let mut edges = |chain: &[LonLat], out: &mut Vec<BallCore>| -> Result<(), GeomError> {
             xyz.clear();
             memory::reserve(&mut xyz, chain.len())?;
             xyz.extend(chain.iter().map(|&p| ecef(p)));
@@ -397,7 +435,7 @@ impl Prepared {
                     stop.check()?;
                 }
                 let (a, b) = (chain[k], chain[k + 1]);
-                out.push(Ball::edge_from(a, b, &xyz[k], &xyz[k + 1]));
+                out.push(Ball::edge_from(a, b, &xyz[k], &xyz[k + 1]).core());
             }
             Ok(())
         };
@@ -424,15 +462,32 @@ impl Prepared {
         }
         drop(xyz);
         stop.check()?;
-        self.ball = whole_ball(&elements);
-        self.bbox = bounding_box(&elements).map(|b| self.with_enclosed_poles(b));
-        if elements.len() > ELEMENT_INDEX_MIN {
-            self.tree = Some(BallTree::build(&elements, stop)?);
-        }
         self.balls = elements;
         self.line_starts = line_starts;
         self.ring_starts = ring_starts;
+        self.ball = whole_ball(self);
+        self.bbox = bounding_box(self).map(|b| self.with_enclosed_poles(b));
+        if self.balls.len() > ELEMENT_INDEX_MIN {
+            let tree = BallTree::build(self, stop)?;
+            self.tree = Some(tree);
+        }
         Ok(())
+    }
+
+    /// The ball of element `i` (below [`Prepared::element_count`]): its
+    /// stored core with the centre's (lon, lat) derived from the element.
+    #[inline]
+    pub fn ball(&self, i: usize) -> Ball {
+        let centre = match self.element(i) {
+            Element::Point(p) => p,
+            Element::Edge(a, b) => edge_centre(a, b),
+        };
+        let core = &self.balls[i];
+        Ball {
+            centre,
+            radius: core.radius,
+            xyz: core.xyz,
+        }
     }
 
     /// Element `i` (below [`Prepared::element_count`]), read from the
@@ -490,7 +545,7 @@ impl Prepared {
             Some(tree) if self.indexed() => {
                 let (parts, n) = query.normalised_parts();
                 let mut found = Vec::new();
-                tree.elements_meeting(&self.balls, &parts[..n], &mut found);
+                tree.elements_meeting(self, &parts[..n], &mut found);
                 found
             }
             _ => (0..self.balls.len()).collect(),
@@ -525,10 +580,13 @@ impl Prepared {
 
 /// A ball around all elements: centred on the middle of their centres'
 /// longitude/latitude box (longitudes unwrapped around the first centre).
-fn whole_ball(elements: &[Ball]) -> Option<Ball> {
-    let first = elements.first()?.centre;
+fn whole_ball(g: &Prepared) -> Option<Ball> {
+    if g.is_empty() {
+        return None;
+    }
+    let first = g.ball(0).centre;
     let (mut lo_x, mut hi_x, mut lo_y, mut hi_y) = (0.0f64, 0.0f64, first.1, first.1);
-    for b in elements {
+    for b in (0..g.element_count()).map(|i| g.ball(i)) {
         let x = wrap_delta(first.0, b.centre.0);
         lo_x = lo_x.min(x);
         hi_x = hi_x.max(x);
@@ -538,7 +596,7 @@ fn whole_ball(elements: &[Ball]) -> Option<Ball> {
     let centre = (first.0 + (lo_x + hi_x) / 2.0, (lo_y + hi_y) / 2.0);
     let xyz = ecef(centre);
     let mut radius = 0.0f64;
-    for b in elements {
+    for b in &g.balls {
         radius = radius.max(arc_upper(&xyz, &b.xyz) + b.radius);
     }
     Some(Ball {
@@ -585,8 +643,11 @@ fn winds_around_a_pole(ring: &[LonLat]) -> bool {
     turn.abs() > 180.0
 }
 
-fn bounding_box(elements: &[Ball]) -> Option<LonLatBox> {
-    let first = elements.first()?.centre;
+fn bounding_box(g: &Prepared) -> Option<LonLatBox> {
+    if g.is_empty() {
+        return None;
+    }
+    let first = g.ball(0).centre;
     let mut b = LonLatBox {
         lon_lo: first.0,
         lon_hi: first.0,
@@ -594,7 +655,7 @@ fn bounding_box(elements: &[Ball]) -> Option<LonLatBox> {
         lat_hi: first.1,
     };
     let mut radius = 0.0f64;
-    for ball in elements {
+    for ball in (0..g.element_count()).map(|i| g.ball(i)) {
         let x = first.0 + wrap_delta(first.0, ball.centre.0);
         b.lon_lo = b.lon_lo.min(x);
         b.lon_hi = b.lon_hi.max(x);
