@@ -3,7 +3,8 @@
 //!
 //! Level 1 holds one ball per run of [`FAN`] consecutive elements, level
 //! `k + 1` one ball per run of [`FAN`] balls of level `k`, and the top level
-//! a single ball; level 0 stands for the elements themselves (their balls
+//! a single ball (a geometry of one element has no groups: its root is
+//! the element); level 0 stands for the elements themselves (their balls
 //! are in [`Prepared::balls`]). Consecutive edges of a line or ring lie
 //! next to each other, so runs make small balls; a run that spans two
 //! rings, or isolated points in no particular order, only makes a larger
@@ -67,10 +68,12 @@ impl BallTree {
     pub fn build(g: &Prepared, stop: &dyn Interrupt) -> Result<BallTree, GeomError> {
         let count = g.element_count();
         let mut levels: Vec<Vec<Ball>> = Vec::new();
-        if count == 0 {
+        if count <= 1 {
+            // No groups: the root is the element itself (a point feature
+            // keeps no copy of its ball).
             return Ok(BallTree {
                 levels,
-                elements: 0,
+                elements: count,
             });
         }
         let mut below: Vec<Ball> = Vec::new();
@@ -106,6 +109,7 @@ impl BallTree {
             }
             if level.len() == 1 {
                 levels.push(level);
+                levels.shrink_to_fit();
                 break;
             }
             below = level;
@@ -116,9 +120,10 @@ impl BallTree {
         })
     }
 
-    /// The node holding everything (`None` for no elements).
+    /// The node holding everything (`None` for no elements; the element
+    /// itself, at level 0, for one).
     pub fn root(&self) -> Option<Node> {
-        (!self.levels.is_empty()).then_some(Node {
+        (self.elements > 0).then_some(Node {
             level: self.levels.len() as u8,
             index: 0,
         })
@@ -201,6 +206,7 @@ impl BallTree {
             .iter()
             .map(|l| l.capacity() * std::mem::size_of::<Ball>())
             .sum::<usize>()
+            + self.levels.capacity() * std::mem::size_of::<Vec<Ball>>()
             + std::mem::size_of::<BallTree>()
     }
 
@@ -285,6 +291,21 @@ mod tests {
     use crate::blob::wkt;
     use crate::interrupt::Never;
     use crate::proximity::prepared::Prepared;
+
+    /// A geometry of one element has no groups: its root is the element,
+    /// whose ball is the one [`Prepared::ball`] gives (no copy kept).
+    #[test]
+    fn one_element_is_its_own_root() {
+        let p = Prepared::new(&wkt::parse("POINT (-131.2 38.9)").unwrap());
+        let tree = BallTree::build(&p, &Never).unwrap();
+        let root = tree.root().unwrap();
+        assert_eq!(root, Node { level: 0, index: 0 });
+        assert_eq!(tree.children(root).count(), 0);
+        assert_eq!(tree.ball(root, &p), Ball::point((-131.2, 38.9)));
+        assert_eq!(tree.levels.len(), 0);
+        let empty = Prepared::new(&wkt::parse("POINT EMPTY").unwrap());
+        assert_eq!(BallTree::build(&empty, &Never).unwrap().root(), None);
+    }
 
     /// Every element's ball lies inside each of its ancestors' balls
     /// (brute force over the tree, by the chord upper bound).

@@ -90,6 +90,12 @@ impl Feature {
                         + std::mem::size_of::<Vec<crate::proximity::prepared::LonLat>>()
                 })
                 .sum::<usize>()
+            + (g.lines.capacity() + g.polygons.capacity() + g.north_pole_rings.capacity())
+                * std::mem::size_of::<Vec<()>>()
+            + g.north_pole_rings
+                .iter()
+                .map(|flags| flags.capacity())
+                .sum::<usize>()
             + g.tree.as_ref().map_or(0, BallTree::bytes)
     }
 }

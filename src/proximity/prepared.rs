@@ -465,6 +465,14 @@ impl Prepared {
         self.balls = elements;
         self.line_starts = line_starts;
         self.ring_starts = ring_starts;
+        // Growth by pushes leaves room for several more (a single point's
+        // array would hold four): a layer keeps its features for long.
+        self.points.shrink_to_fit();
+        self.lines.shrink_to_fit();
+        self.polygons.shrink_to_fit();
+        self.north_pole_rings.shrink_to_fit();
+        self.line_starts.shrink_to_fit();
+        self.ring_starts.shrink_to_fit();
         self.ball = whole_ball(self);
         self.bbox = bounding_box(self).map(|b| self.with_enclosed_poles(b));
         if self.balls.len() > ELEMENT_INDEX_MIN {
@@ -713,6 +721,31 @@ mod tests {
                 let d = inverse::distance(ball.centre.0, ball.centre.1, lon, lat);
                 assert!(d <= ball.radius, "{d} > {}", ball.radius);
             }
+        }
+    }
+
+    /// The elements and balls derived from the vertex arrays are those
+    /// built from the vertices directly, bit for bit (brute force over a
+    /// collection with points, a line, a ring across the antimeridian and
+    /// a hole).
+    #[test]
+    fn derived_elements_and_balls_equal_those_built_directly() {
+        let g = wkt::parse(
+            "GEOMETRYCOLLECTION (MULTIPOINT ((1 2), (3 4)),              LINESTRING (0 0, 1 1, 2 1), LINESTRING (5 5, 6 6),              POLYGON ((179 -16, -179 -16, -179 -15, 179 -16)),              POLYGON ((0 0, 4 0, 4 4, 0 0), (1 0.5, 3 0.5, 3 2.5, 1 0.5)))",
+        )
+        .unwrap();
+        let p = Prepared::new(&g);
+        let mut built = vec![Element::Point((1.0, 2.0)), Element::Point((3.0, 4.0))];
+        for chain in p.lines.iter().chain(p.polygons.iter().flatten()) {
+            built.extend(chain.windows(2).map(|w| Element::Edge(w[0], w[1])));
+        }
+        assert_eq!(p.elements().collect::<Vec<_>>(), built);
+        for (i, e) in built.iter().enumerate() {
+            let ball = match *e {
+                Element::Point(q) => Ball::point(q),
+                Element::Edge(a, b) => Ball::edge(a, b),
+            };
+            assert_eq!(p.ball(i), ball, "element {i}");
         }
     }
 
