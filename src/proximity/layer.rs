@@ -65,6 +65,7 @@ impl Feature {
     ) -> Result<Feature, GeomError> {
         let mut geometry = Prepared::build(g, stop)?;
         geometry.add_ball_tree(stop)?;
+        geometry.shrink_to_fit();
         Ok(Feature {
             id,
             reach,

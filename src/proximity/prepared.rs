@@ -465,14 +465,6 @@ impl Prepared {
         self.balls = elements;
         self.line_starts = line_starts;
         self.ring_starts = ring_starts;
-        // Growth by pushes leaves room for several more (a single point's
-        // array would hold four): a layer keeps its features for long.
-        self.points.shrink_to_fit();
-        self.lines.shrink_to_fit();
-        self.polygons.shrink_to_fit();
-        self.north_pole_rings.shrink_to_fit();
-        self.line_starts.shrink_to_fit();
-        self.ring_starts.shrink_to_fit();
         self.ball = whole_ball(self);
         self.bbox = bounding_box(self).map(|b| self.with_enclosed_poles(b));
         if self.balls.len() > ELEMENT_INDEX_MIN {
@@ -480,6 +472,29 @@ impl Prepared {
             self.tree = Some(tree);
         }
         Ok(())
+    }
+
+    /// Gives back the room that growth by pushes left in the small arrays
+    /// (a single point's array holds four): for values kept long, such as
+    /// a layer's features.
+    pub fn shrink_to_fit(&mut self) {
+        self.points.shrink_to_fit();
+        self.lines.shrink_to_fit();
+        self.polygons.shrink_to_fit();
+        self.north_pole_rings.shrink_to_fit();
+        self.line_starts.shrink_to_fit();
+        self.ring_starts.shrink_to_fit();
+    }
+
+    /// The (lon, lat) centres of the elements' balls, in element order
+    /// (what [`Prepared::ball`] derives, without looking each element up).
+    fn ball_centres(&self) -> impl Iterator<Item = LonLat> + '_ {
+        self.points.iter().copied().chain(
+            self.lines
+                .iter()
+                .chain(self.polygons.iter().flatten())
+                .flat_map(|chain| chain.windows(2).map(|w| edge_centre(w[0], w[1]))),
+        )
     }
 
     /// The ball of element `i` (below [`Prepared::element_count`]): its
@@ -594,12 +609,12 @@ fn whole_ball(g: &Prepared) -> Option<Ball> {
     }
     let first = g.ball(0).centre;
     let (mut lo_x, mut hi_x, mut lo_y, mut hi_y) = (0.0f64, 0.0f64, first.1, first.1);
-    for b in (0..g.element_count()).map(|i| g.ball(i)) {
-        let x = wrap_delta(first.0, b.centre.0);
+    for centre in g.ball_centres() {
+        let x = wrap_delta(first.0, centre.0);
         lo_x = lo_x.min(x);
         hi_x = hi_x.max(x);
-        lo_y = lo_y.min(b.centre.1);
-        hi_y = hi_y.max(b.centre.1);
+        lo_y = lo_y.min(centre.1);
+        hi_y = hi_y.max(centre.1);
     }
     let centre = (first.0 + (lo_x + hi_x) / 2.0, (lo_y + hi_y) / 2.0);
     let xyz = ecef(centre);
@@ -663,12 +678,12 @@ fn bounding_box(g: &Prepared) -> Option<LonLatBox> {
         lat_hi: first.1,
     };
     let mut radius = 0.0f64;
-    for ball in (0..g.element_count()).map(|i| g.ball(i)) {
-        let x = first.0 + wrap_delta(first.0, ball.centre.0);
+    for (centre, ball) in g.ball_centres().zip(&g.balls) {
+        let x = first.0 + wrap_delta(first.0, centre.0);
         b.lon_lo = b.lon_lo.min(x);
         b.lon_hi = b.lon_hi.max(x);
-        b.lat_lo = b.lat_lo.min(ball.centre.1);
-        b.lat_hi = b.lat_hi.max(ball.centre.1);
+        b.lat_lo = b.lat_lo.min(centre.1);
+        b.lat_hi = b.lat_hi.max(centre.1);
         radius = radius.max(ball.radius);
     }
     Some(b.grown(radius))
@@ -747,6 +762,8 @@ mod tests {
             };
             assert_eq!(p.ball(i), ball, "element {i}");
         }
+        let centres: Vec<LonLat> = (0..built.len()).map(|i| p.ball(i).centre).collect();
+        assert_eq!(p.ball_centres().collect::<Vec<_>>(), centres);
     }
 
     #[test]
