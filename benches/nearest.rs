@@ -14,8 +14,9 @@
 //! - the same with a cap of 10 miles (NULL expected);
 //! - blocks just outside the 400,000-vertex polygon: the reach test at
 //!   half a mile and the nearest distance;
+//! - a block 600-900 km from a layer of 100,000 points;
 //! - the layer's bytes per vertex (`Layer::bytes`, as ambit_layers
-//!   reports) for the parks and for a 1,000,000-vertex polygon, and the
+//!   reports) for the parks, the points and a 1,000,000-vertex polygon, and the
 //!   growth of resident memory while the latter was built.
 
 use std::time::Instant;
@@ -145,6 +146,21 @@ fn main() {
         &far,
         Some(16_093.44),
     );
+
+    // 100,000 facility points over 10 x 4 degrees, the blocks 600-900 km
+    // north as for the parks.
+    let points: Vec<Feature> = (0..100_000)
+        .map(|k| {
+            let (x, y) = ((k % 400) as f64, (k / 400) as f64);
+            feature(
+                k as i64,
+                &format!("POINT ({} {})", -100.0 + x / 40.0, 30.0 + y / 62.5),
+            )
+        })
+        .collect();
+    let points = Layer::new(points);
+    per_vertex("100,000 facility points", &points);
+    time_nearest("block 600-900 km from 100,000 points", &points, &far, None);
 
     let t = Instant::now();
     let before = resident_bytes();

@@ -106,8 +106,8 @@ fn brute_distance(a: &Prepared, b: &Prepared) -> f64 {
         return 0.0;
     }
     let mut best = f64::INFINITY;
-    for (ea, _) in &a.elements {
-        for (eb, _) in &b.elements {
+    for ea in &a.elements().collect::<Vec<_>>() {
+        for eb in &b.elements().collect::<Vec<_>>() {
             let d = match (ea, eb) {
                 (Element::Point(p), Element::Point(q)) => {
                     ambit::geodesy::inverse::distance(p.0, p.1, q.0, q.1)

@@ -3,8 +3,9 @@
 //!
 //! Level 1 holds one ball per run of [`FAN`] consecutive elements, level
 //! `k + 1` one ball per run of [`FAN`] balls of level `k`, and the top level
-//! a single ball; level 0 stands for the elements themselves (their balls
-//! are in [`Prepared::elements`]). Consecutive edges of a line or ring lie
+//! a single ball (a geometry of one element has no groups: its root is
+//! the element); level 0 stands for the elements themselves (their balls
+//! are in [`Prepared::balls`]). Consecutive edges of a line or ring lie
 //! next to each other, so runs make small balls; a run that spans two
 //! rings, or isolated points in no particular order, only makes a larger
 //! ball (weaker pruning, never a wrong answer). About 7 bytes per element.
@@ -29,7 +30,9 @@ use crate::geodesy::inverse;
 use crate::interrupt::Interrupt;
 use crate::memory;
 use crate::proximity::boxes::LonLatBox;
-use crate::proximity::prepared::{arc_upper, chord_lower, Ball, Element, MAX_BALL_RADIUS};
+use crate::proximity::prepared::{
+    arc_upper, chord_lower, Ball, BallCore, Prepared, MAX_BALL_RADIUS,
+};
 
 /// Children per group.
 pub const FAN: usize = 8;
@@ -60,39 +63,44 @@ pub struct BallTree {
 }
 
 impl BallTree {
-    /// The tree over `elements` (empty for no elements). Asks `stop` every
-    /// few thousand groups; arrays are allocated fallibly.
-    pub fn build(
-        elements: &[(Element, Ball)],
-        stop: &dyn Interrupt,
-    ) -> Result<BallTree, GeomError> {
+    /// The tree over the elements of `g` (empty for no elements). Asks
+    /// `stop` every few thousand groups; arrays are allocated fallibly.
+    pub fn build(g: &Prepared, stop: &dyn Interrupt) -> Result<BallTree, GeomError> {
+        let count = g.element_count();
         let mut levels: Vec<Vec<Ball>> = Vec::new();
-        if elements.is_empty() {
+        if count <= 1 {
+            // No groups: the root is the element itself (a point feature
+            // keeps no copy of its ball).
             return Ok(BallTree {
                 levels,
-                elements: 0,
+                elements: count,
             });
         }
         let mut below: Vec<Ball> = Vec::new();
         let mut first = true;
         loop {
             let children: &[Ball] = if first { &[] } else { &below };
-            let n = if first {
-                elements.len()
-            } else {
-                children.len()
-            };
+            let n = if first { count } else { children.len() };
             let groups = n.div_ceil(FAN);
             let mut level: Vec<Ball> = memory::vec_with_capacity(groups)?;
-            for g in 0..groups {
-                if g % CHECK_EVERY == CHECK_EVERY - 1 {
+            for at in 0..groups {
+                if at % CHECK_EVERY == CHECK_EVERY - 1 {
                     stop.check()?;
                 }
-                let range = g * FAN..((g + 1) * FAN).min(n);
+                let range = at * FAN..((at + 1) * FAN).min(n);
                 level.push(if first {
-                    group(range.map(|k| &elements[k].1))
+                    let mut run = [Ball {
+                        centre: (0.0, 0.0),
+                        radius: 0.0,
+                        xyz: [0.0; 3],
+                    }; FAN];
+                    let len = range.len();
+                    for (slot, k) in run.iter_mut().zip(range) {
+                        *slot = g.ball(k);
+                    }
+                    group(&run[..len])
                 } else {
-                    group(range.map(|k| &children[k]))
+                    group(&children[range])
                 });
             }
             first = false;
@@ -101,30 +109,45 @@ impl BallTree {
             }
             if level.len() == 1 {
                 levels.push(level);
+                levels.shrink_to_fit();
                 break;
             }
             below = level;
         }
         Ok(BallTree {
             levels,
-            elements: elements.len(),
+            elements: count,
         })
     }
 
-    /// The node holding everything (`None` for no elements).
+    /// The node holding everything (`None` for no elements; the element
+    /// itself, at level 0, for one).
     pub fn root(&self) -> Option<Node> {
-        (!self.levels.is_empty()).then_some(Node {
+        (self.elements > 0).then_some(Node {
             level: self.levels.len() as u8,
             index: 0,
         })
     }
 
-    /// The ball of `node`; `elements` are those the tree was built over.
-    pub fn ball<'a>(&'a self, node: Node, elements: &'a [(Element, Ball)]) -> &'a Ball {
+    /// The ball of `node`; `g` is the geometry the tree was built over.
+    #[inline]
+    pub fn ball(&self, node: Node, g: &Prepared) -> Ball {
         if node.level == 0 {
-            &elements[node.index as usize].1
+            g.ball(node.index as usize)
         } else {
-            &self.levels[node.level as usize - 1][node.index as usize]
+            self.levels[node.level as usize - 1][node.index as usize]
+        }
+    }
+
+    /// The centre's Earth-centred coordinates and the radius of `node`'s
+    /// ball (what [`Ball::gap`] needs, without deriving an element's
+    /// (lon, lat) centre).
+    #[inline]
+    pub fn core(&self, node: Node, g: &Prepared) -> BallCore {
+        if node.level == 0 {
+            g.balls[node.index as usize]
+        } else {
+            self.levels[node.level as usize - 1][node.index as usize].core()
         }
     }
 
@@ -156,14 +179,14 @@ impl BallTree {
     /// exactly).
     pub fn elements_meeting(
         &self,
-        elements: &[(Element, Ball)],
+        g: &Prepared,
         queries: &[rstar::AABB<[f64; 2]>],
         out: &mut Vec<usize>,
     ) {
         let Some(root) = self.root() else { return };
         let mut stack = vec![root];
         while let Some(node) = stack.pop() {
-            if !LonLatBox::around(self.ball(node, elements), 0.0).meets(queries) {
+            if !LonLatBox::around(&self.ball(node, g), 0.0).meets(queries) {
                 continue;
             }
             if node.level == 0 {
@@ -183,6 +206,7 @@ impl BallTree {
             .iter()
             .map(|l| l.capacity() * std::mem::size_of::<Ball>())
             .sum::<usize>()
+            + self.levels.capacity() * std::mem::size_of::<Vec<Ball>>()
             + std::mem::size_of::<BallTree>()
     }
 
@@ -193,12 +217,8 @@ impl BallTree {
 }
 
 /// The ball around a run of balls (module doc).
-fn group<'a>(children: impl Iterator<Item = &'a Ball> + Clone) -> Ball {
-    let count = children.clone().count();
-    let mid = *children
-        .clone()
-        .nth(count / 2)
-        .expect("a group has a child");
+fn group(children: &[Ball]) -> Ball {
+    let mid = children[children.len() / 2];
     let mut radius = 0.0f64;
     for c in children {
         radius = radius.max(arc_upper(&mid.xyz, &c.xyz) + c.radius);
@@ -236,7 +256,7 @@ pub fn tight_gap(a: &Ball, b: &Ball, chord_gap: f64) -> f64 {
 /// ball centre grown by its radius (a chord never exceeds the geodesic),
 /// rounded outward by 1 mm. A whole-Earth box when some radius is infinite;
 /// `None` for no elements.
-pub fn space_box(elements: &[(Element, Ball)]) -> Option<[f64; 6]> {
+pub fn space_box(elements: &[BallCore]) -> Option<[f64; 6]> {
     if elements.is_empty() {
         return None;
     }
@@ -249,7 +269,7 @@ pub fn space_box(elements: &[(Element, Ball)]) -> Option<[f64; 6]> {
         f64::NEG_INFINITY,
         f64::NEG_INFINITY,
     ];
-    for (_, ball) in elements {
+    for ball in elements {
         if !ball.radius.is_finite() {
             return Some([-whole, -whole, -whole, whole, whole, whole]);
         }
@@ -272,6 +292,21 @@ mod tests {
     use crate::interrupt::Never;
     use crate::proximity::prepared::Prepared;
 
+    /// A geometry of one element has no groups: its root is the element,
+    /// whose ball is the one [`Prepared::ball`] gives (no copy kept).
+    #[test]
+    fn one_element_is_its_own_root() {
+        let p = Prepared::new(&wkt::parse("POINT (-131.2 38.9)").unwrap());
+        let tree = BallTree::build(&p, &Never).unwrap();
+        let root = tree.root().unwrap();
+        assert_eq!(root, Node { level: 0, index: 0 });
+        assert_eq!(tree.children(root).count(), 0);
+        assert_eq!(tree.ball(root, &p), Ball::point((-131.2, 38.9)));
+        assert_eq!(tree.levels.len(), 0);
+        let empty = Prepared::new(&wkt::parse("POINT EMPTY").unwrap());
+        assert_eq!(BallTree::build(&empty, &Never).unwrap().root(), None);
+    }
+
     /// Every element's ball lies inside each of its ancestors' balls
     /// (brute force over the tree, by the chord upper bound).
     #[test]
@@ -283,12 +318,12 @@ mod tests {
             })
             .collect();
         let p = Prepared::new(&wkt::parse(&format!("POLYGON (({}))", ring.join(", "))).unwrap());
-        let tree = BallTree::build(&p.elements, &Never).unwrap();
+        let tree = BallTree::build(&p, &Never).unwrap();
         let root = tree.root().unwrap();
         let mut stack = vec![(root, Vec::<Ball>::new())];
         let mut seen = 0;
         while let Some((node, ancestors)) = stack.pop() {
-            let ball = *tree.ball(node, &p.elements);
+            let ball = tree.ball(node, &p);
             if node.level == 0 {
                 seen += 1;
                 for a in &ancestors {
@@ -301,6 +336,6 @@ mod tests {
                 stack.push((c, next.clone()));
             }
         }
-        assert_eq!(seen, p.elements.len());
+        assert_eq!(seen, p.element_count());
     }
 }

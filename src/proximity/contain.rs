@@ -121,7 +121,7 @@ pub fn point_in_prepared(p: LonLat, g: &Prepared) -> bool {
         lat_hi: 90.0,
     };
     for i in g.elements_near(&ray) {
-        if let (Some(owner), Element::Edge(a, b)) = (g.owner(i), g.elements[i].0) {
+        if let (Some(owner), Element::Edge(a, b)) = (g.owner(i), g.element(i)) {
             if meridian_crosses(p, a, b) {
                 let flag = &mut parity[owner.polygon as usize][owner.ring as usize];
                 *flag = !*flag;

@@ -117,10 +117,10 @@ fn elements_near(x: &Prepared, other: &Ball, cap: f64) -> Vec<usize> {
     let near = if x.indexed() && cap.is_finite() {
         x.elements_near(&LonLatBox::around(other, cap))
     } else {
-        (0..x.elements.len()).collect()
+        (0..x.element_count()).collect()
     };
     near.into_iter()
-        .filter(|&i| x.elements[i].1.gap(other) <= cap)
+        .filter(|&i| x.balls[i].gap(&other.core()) <= cap)
         .collect()
 }
 
@@ -149,8 +149,8 @@ fn for_each_candidate(
     for &i in small {
         let found;
         let js: &[usize] = if indexed {
-            let ball = &small_geometry.elements[i].1;
-            found = large_geometry.elements_near(&LonLatBox::around(ball, cap));
+            let ball = small_geometry.ball(i);
+            found = large_geometry.elements_near(&LonLatBox::around(&ball, cap));
             &found
         } else {
             large_near
@@ -176,10 +176,10 @@ fn quick_upper(a: &Prepared, b: &Prepared) -> f64 {
         return f64::INFINITY;
     };
     let nearest_to = |x: &Prepared, target: &[f64; 3]| -> Option<usize> {
-        let step = if x.elements.len() > 512 { 16 } else { 1 };
-        (0..x.elements.len()).step_by(step).min_by(|&i, &j| {
+        let step = if x.element_count() > 512 { 16 } else { 1 };
+        (0..x.element_count()).step_by(step).min_by(|&i, &j| {
             let d = |k: usize| {
-                let c = &x.elements[k].1.xyz;
+                let c = &x.balls[k].xyz;
                 (c[0] - target[0]).powi(2) + (c[1] - target[1]).powi(2) + (c[2] - target[2]).powi(2)
             };
             d(i).total_cmp(&d(j))
@@ -188,11 +188,11 @@ fn quick_upper(a: &Prepared, b: &Prepared) -> f64 {
     let Some(i) = nearest_to(a, &ball_b.xyz) else {
         return f64::INFINITY;
     };
-    let ea = &a.elements[i].1;
+    let ea = &a.balls[i];
     let Some(j) = nearest_to(b, &ea.xyz) else {
         return f64::INFINITY;
     };
-    let eb = &b.elements[j].1;
+    let eb = &b.balls[j];
     arc_upper(&ea.xyz, &eb.xyz) + ea.radius + eb.radius
 }
 
@@ -231,11 +231,12 @@ fn search(
     let reach = cap.min(best);
     let mut pairs: Vec<(f64, usize, usize)> = Vec::new();
     let early = for_each_candidate(a, b, reach, |i, j| {
-        let ((ea, ba), (eb, bb)) = (&a.elements[i], &b.elements[j]);
+        let (ba, bb) = (&a.balls[i], &b.balls[j]);
         let lower = ba.gap(bb).max(0.0);
         if lower > reach.min(best) {
             return ControlFlow::Continue(());
         }
+        let (ea, eb) = (&a.element(i), &b.element(j));
         if let (Element::Point(p), Element::Point(q)) = (ea, eb) {
             if first_hit && local::within_fast(*p, *q, cap) == Some(true) {
                 return ControlFlow::Break(distance_upper(*p, *q).min(cap));
@@ -264,7 +265,7 @@ fn search(
         }
         // The flat frame's bounds settle most pairs without the exact
         // computation: within reach for sure, or no better than known.
-        let (ea, eb) = (&a.elements[i].0, &b.elements[j].0);
+        let (ea, eb) = (&a.element(i), &b.element(j));
         let (flat_lo, flat_up) = flat_bounds(ea, eb);
         if first_hit && flat_up <= cap {
             return Ok(flat_up);
@@ -279,7 +280,7 @@ fn search(
             exact_since_check = 0;
             stop.check()?;
         }
-        let d = exact(&a.elements[i].0, &b.elements[j].0);
+        let d = exact(ea, eb);
         best_exact = best_exact.min(d);
         if first_hit && best_exact <= cap {
             return Ok(best_exact);
@@ -367,9 +368,7 @@ pub fn nearest_between(
         return Ok(f64::INFINITY);
     };
     let mut queue = std::collections::BinaryHeap::new();
-    let key = ta
-        .ball(root_a, &a.elements)
-        .gap(tb.ball(root_b, &b.elements));
+    let key = ta.ball(root_a, a).gap(&tb.ball(root_b, b));
     queue.push(Pending {
         key,
         tight: false,
@@ -389,9 +388,9 @@ pub fn nearest_between(
             pops = 0;
             stop.check()?;
         }
-        let (ba, bb) = (ta.ball(item.a, &a.elements), tb.ball(item.b, &b.elements));
+        let (ba, bb) = (ta.ball(item.a, a), tb.ball(item.b, b));
         if !item.tight {
-            let key = tight_gap(ba, bb, item.key);
+            let key = tight_gap(&ba, &bb, item.key);
             if key > bound {
                 continue;
             }
@@ -406,7 +405,7 @@ pub fn nearest_between(
         }
         if item.a.level == 0 && item.b.level == 0 {
             let (i, j) = (item.a.index as usize, item.b.index as usize);
-            let (ea, eb) = (&a.elements[i].0, &b.elements[j].0);
+            let (ea, eb) = (&a.element(i), &b.element(j));
             let (flat_lo, flat_up) = flat_bounds(ea, eb);
             upper = upper.min(flat_up);
             if flat_lo > best_exact.min(upper).min(cap) {
@@ -429,7 +428,7 @@ pub fn nearest_between(
         let bound = best_exact.min(upper).min(cap);
         if split_b {
             for c in tb.children(item.b) {
-                let key = ba.gap(tb.ball(c, &b.elements));
+                let key = ba.core().gap(&tb.core(c, b));
                 if key <= bound {
                     queue.push(Pending {
                         key,
@@ -441,7 +440,7 @@ pub fn nearest_between(
             }
         } else {
             for c in ta.children(item.a) {
-                let key = ta.ball(c, &a.elements).gap(bb);
+                let key = ta.core(c, a).gap(&bb.core());
                 if key <= bound {
                     queue.push(Pending {
                         key,

@@ -65,6 +65,7 @@ impl Feature {
     ) -> Result<Feature, GeomError> {
         let mut geometry = Prepared::build(g, stop)?;
         geometry.add_ball_tree(stop)?;
+        geometry.shrink_to_fit();
         Ok(Feature {
             id,
             reach,
@@ -77,11 +78,8 @@ impl Feature {
     pub fn bytes(&self) -> usize {
         let g = &self.geometry;
         std::mem::size_of::<Feature>()
-            + g.elements.capacity()
-                * std::mem::size_of::<(
-                    crate::proximity::prepared::Element,
-                    crate::proximity::prepared::Ball,
-                )>()
+            + g.balls.capacity() * std::mem::size_of::<crate::proximity::prepared::BallCore>()
+            + g.line_starts.capacity() * std::mem::size_of::<u32>()
             + g.ring_starts.capacity()
                 * std::mem::size_of::<(u32, crate::proximity::prepared::RingRef)>()
             + g.points.capacity() * std::mem::size_of::<crate::proximity::prepared::LonLat>()
@@ -92,6 +90,12 @@ impl Feature {
                     c.capacity() * std::mem::size_of::<crate::proximity::prepared::LonLat>()
                         + std::mem::size_of::<Vec<crate::proximity::prepared::LonLat>>()
                 })
+                .sum::<usize>()
+            + (g.lines.capacity() + g.polygons.capacity() + g.north_pole_rings.capacity())
+                * std::mem::size_of::<Vec<()>>()
+            + g.north_pole_rings
+                .iter()
+                .map(|flags| flags.capacity())
                 .sum::<usize>()
             + g.tree.as_ref().map_or(0, BallTree::bytes)
     }
@@ -423,7 +427,7 @@ impl Layer {
                 stop.check()?;
             }
             extent.add(&f.geometry);
-            if let Some(b) = space_box(&f.geometry.elements) {
+            if let Some(b) = space_box(&f.geometry.balls) {
                 space.push(GeomWithData::new(
                     Rectangle::from_corners([b[0], b[1], b[2]], [b[3], b[4], b[5]]),
                     i as u32,
@@ -756,7 +760,7 @@ impl Layer {
                 let tree = match (&g.tree, &mut own) {
                     (Some(t), _) => t,
                     (None, Some(t)) => &*t,
-                    (None, slot) => &*slot.insert(BallTree::build(&g.elements, stop)?),
+                    (None, slot) => &*slot.insert(BallTree::build(g, stop)?),
                 };
                 nearest_between(g, tree, f, ft, cap, stop)?
             };

@@ -40,6 +40,36 @@ pub struct Ball {
     pub xyz: [f64; 3],
 }
 
+/// What [`Prepared`] stores of an element's [`Ball`]: its centre's
+/// Earth-centred coordinates and its radius (32 bytes instead of 48).
+/// The centre's (lon, lat) is derived from the element's vertices by
+/// [`Prepared::ball`], with the same arithmetic that made the ball, so the
+/// whole ball comes back bit for bit.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct BallCore {
+    pub xyz: [f64; 3],
+    pub radius: f64,
+}
+
+impl BallCore {
+    /// [`Ball::gap`] between two balls given by their cores (the same
+    /// arithmetic, so the same value).
+    #[inline]
+    pub fn gap(&self, other: &BallCore) -> f64 {
+        if self.radius.is_infinite() || other.radius.is_infinite() {
+            return f64::NEG_INFINITY;
+        }
+        chord_lower(&self.xyz, &other.xyz) - self.radius - other.radius
+    }
+}
+
+/// The (lon, lat) centre of the ball of the edge a-b ([`Ball::edge_from`]):
+/// the midpoint of the ends' longitudes (unwrapped) and latitudes.
+#[inline]
+pub fn edge_centre(a: LonLat, b: LonLat) -> LonLat {
+    (a.0 + wrap_delta(a.0, b.0) / 2.0, (a.1 + b.1) / 2.0)
+}
+
 /// Earth-centred, Earth-fixed Cartesian coordinates (metres) of a point on
 /// the WGS84 ellipsoid (height 0): x = N cos(lat) cos(lon),
 /// y = N cos(lat) sin(lon), z = N (1 - e^2) sin(lat) (NIMA TR8350.2, eq.
@@ -139,7 +169,7 @@ impl Ball {
     /// spans a chord of at least 2 M(0) sin(s / (2 M(0))), i.e.
     /// s <= 2 M(0) asin(chord / (2 M(0))).
     pub fn edge_from(a: LonLat, b: LonLat, xa: &[f64; 3], xb: &[f64; 3]) -> Ball {
-        let centre = (a.0 + wrap_delta(a.0, b.0) / 2.0, (a.1 + b.1) / 2.0);
+        let centre = edge_centre(a, b);
         let xyz = ecef(centre);
         let radius = arc_upper(&xyz, xa).max(arc_upper(&xyz, xb));
         Ball {
@@ -156,10 +186,16 @@ impl Ball {
     /// A lower bound on the distance between any point of `self` and any
     /// point of `other` (may be negative when the balls overlap).
     pub fn gap(&self, other: &Ball) -> f64 {
-        if self.radius.is_infinite() || other.radius.is_infinite() {
-            return f64::NEG_INFINITY;
+        self.core().gap(&other.core())
+    }
+
+    /// The ball's Earth-centred centre and radius.
+    #[inline]
+    pub fn core(&self) -> BallCore {
+        BallCore {
+            xyz: self.xyz,
+            radius: self.radius,
         }
-        chord_lower(&self.xyz, &other.xyz) - self.radius - other.radius
     }
 }
 
@@ -193,9 +229,15 @@ pub struct Prepared {
     /// For each polygon and ring: does the ring enclose the north pole
     /// (see [`crate::proximity::contain`]).
     pub north_pole_rings: Vec<Vec<bool>>,
-    /// Every element with its ball.
-    pub elements: Vec<(Element, Ball)>,
-    /// Where each ring's edges begin in `elements`, in order, with the
+    /// The ball of every element (without its (lon, lat) centre:
+    /// [`Prepared::ball`] gives the whole ball), in element order: the
+    /// isolated points, then the edges of every line, then those of every
+    /// ring. The elements themselves are not stored: [`Prepared::element`]
+    /// reads them from the vertex arrays above.
+    pub balls: Vec<BallCore>,
+    /// Where each line's edges begin in `balls`, in order.
+    pub line_starts: Vec<u32>,
+    /// Where each ring's edges begin in `balls`, in order, with the
     /// ring ([`Prepared::owner`] reads it).
     pub ring_starts: Vec<(u32, RingRef)>,
     /// A ball around the whole geometry (`None` when empty).
@@ -304,7 +346,7 @@ impl Prepared {
     pub fn estimated_bytes(g: &Geometry) -> usize {
         let n = g.vertex_count();
         let per_vertex = std::mem::size_of::<LonLat>()
-            + std::mem::size_of::<(Element, Ball)>()
+            + std::mem::size_of::<BallCore>()
             + std::mem::size_of::<[f64; 3]>();
         std::mem::size_of::<Prepared>()
             + n.saturating_mul(per_vertex)
@@ -315,7 +357,8 @@ impl Prepared {
     /// [`BallTree::build`] for `stop` and the errors).
     pub fn add_ball_tree(&mut self, stop: &dyn Interrupt) -> Result<(), GeomError> {
         if self.tree.is_none() {
-            self.tree = Some(BallTree::build(&self.elements, stop)?);
+            let tree = BallTree::build(self, stop)?;
+            self.tree = Some(tree);
         }
         Ok(())
     }
@@ -376,30 +419,29 @@ impl Prepared {
             .map(|c| c.len().saturating_sub(1))
             .sum::<usize>();
         let total = self.points.len() + chains;
-        let mut elements = memory::vec_with_capacity(total)?;
+        let mut elements: Vec<BallCore> = memory::vec_with_capacity(total)?;
         for &p in &self.points {
-            elements.push((Element::Point(p), Ball::point(p)));
+            elements.push(Ball::point(p).core());
         }
         let mut ring_starts = Vec::new();
+        let mut line_starts = Vec::new();
         let mut xyz: Vec<[f64; 3]> = Vec::new();
-        let mut edges =
-            |chain: &[LonLat], out: &mut Vec<(Element, Ball)>| -> Result<(), GeomError> {
-                xyz.clear();
-                memory::reserve(&mut xyz, chain.len())?;
-                xyz.extend(chain.iter().map(|&p| ecef(p)));
-                for k in 0..chain.len().saturating_sub(1) {
-                    if k % CHECK_EVERY == CHECK_EVERY - 1 {
-                        stop.check()?;
-                    }
-                    let (a, b) = (chain[k], chain[k + 1]);
-                    out.push((
-                        Element::Edge(a, b),
-                        Ball::edge_from(a, b, &xyz[k], &xyz[k + 1]),
-                    ));
+        let mut edges = |chain: &[LonLat], out: &mut Vec<BallCore>| -> Result<(), GeomError> {
+            xyz.clear();
+            memory::reserve(&mut xyz, chain.len())?;
+            xyz.extend(chain.iter().map(|&p| ecef(p)));
+            for k in 0..chain.len().saturating_sub(1) {
+                if k % CHECK_EVERY == CHECK_EVERY - 1 {
+                    stop.check()?;
                 }
-                Ok(())
-            };
+                let (a, b) = (chain[k], chain[k + 1]);
+                out.push(Ball::edge_from(a, b, &xyz[k], &xyz[k + 1]).core());
+            }
+            Ok(())
+        };
         for line in &self.lines {
+            memory::reserve_one(&mut line_starts)?;
+            line_starts.push(elements.len() as u32);
             edges(line, &mut elements)?;
         }
         for (pi, rings) in self.polygons.iter().enumerate() {
@@ -420,14 +462,95 @@ impl Prepared {
         }
         drop(xyz);
         stop.check()?;
-        self.ball = whole_ball(&elements);
-        self.bbox = bounding_box(&elements).map(|b| self.with_enclosed_poles(b));
-        if elements.len() > ELEMENT_INDEX_MIN {
-            self.tree = Some(BallTree::build(&elements, stop)?);
-        }
-        self.elements = elements;
+        self.balls = elements;
+        self.line_starts = line_starts;
         self.ring_starts = ring_starts;
+        self.ball = whole_ball(self);
+        self.bbox = bounding_box(self).map(|b| self.with_enclosed_poles(b));
+        if self.balls.len() > ELEMENT_INDEX_MIN {
+            let tree = BallTree::build(self, stop)?;
+            self.tree = Some(tree);
+        }
         Ok(())
+    }
+
+    /// Gives back the room that growth by pushes left in the small arrays
+    /// (a single point's array holds four): for values kept long, such as
+    /// a layer's features.
+    pub fn shrink_to_fit(&mut self) {
+        self.points.shrink_to_fit();
+        self.lines.shrink_to_fit();
+        self.polygons.shrink_to_fit();
+        self.north_pole_rings.shrink_to_fit();
+        self.line_starts.shrink_to_fit();
+        self.ring_starts.shrink_to_fit();
+    }
+
+    /// The (lon, lat) centres of the elements' balls, in element order
+    /// (what [`Prepared::ball`] derives, without looking each element up).
+    fn ball_centres(&self) -> impl Iterator<Item = LonLat> + '_ {
+        self.points.iter().copied().chain(
+            self.lines
+                .iter()
+                .chain(self.polygons.iter().flatten())
+                .flat_map(|chain| chain.windows(2).map(|w| edge_centre(w[0], w[1]))),
+        )
+    }
+
+    /// The ball of element `i` (below [`Prepared::element_count`]): its
+    /// stored core with the centre's (lon, lat) derived from the element.
+    #[inline]
+    pub fn ball(&self, i: usize) -> Ball {
+        let centre = match self.element(i) {
+            Element::Point(p) => p,
+            Element::Edge(a, b) => edge_centre(a, b),
+        };
+        let core = &self.balls[i];
+        Ball {
+            centre,
+            radius: core.radius,
+            xyz: core.xyz,
+        }
+    }
+
+    /// Element `i` (below [`Prepared::element_count`]), read from the
+    /// vertex arrays: an isolated point, or the edge from vertex `k` to
+    /// vertex `k + 1` of its line or ring.
+    #[inline]
+    pub fn element(&self, i: usize) -> Element {
+        if i < self.points.len() {
+            return Element::Point(self.points[i]);
+        }
+        let in_lines = self
+            .ring_starts
+            .first()
+            .is_none_or(|&(start, _)| i < start as usize);
+        let (chain, start) = if in_lines {
+            let k = self
+                .line_starts
+                .partition_point(|&start| start as usize <= i)
+                - 1;
+            (&self.lines[k], self.line_starts[k])
+        } else {
+            let k = self
+                .ring_starts
+                .partition_point(|&(start, _)| start as usize <= i)
+                - 1;
+            let (start, r) = self.ring_starts[k];
+            (&self.polygons[r.polygon as usize][r.ring as usize], start)
+        };
+        let k = i - start as usize;
+        Element::Edge(chain[k], chain[k + 1])
+    }
+
+    /// How many elements (isolated points and edges) the geometry has.
+    pub fn element_count(&self) -> usize {
+        self.balls.len()
+    }
+
+    /// Every element, in order (see [`Prepared::element`]).
+    pub fn elements(&self) -> impl Iterator<Item = Element> + '_ {
+        (0..self.balls.len()).map(|i| self.element(i))
     }
 
     /// The ring element `i` bounds (`None` for points and line edges).
@@ -445,10 +568,10 @@ impl Prepared {
             Some(tree) if self.indexed() => {
                 let (parts, n) = query.normalised_parts();
                 let mut found = Vec::new();
-                tree.elements_meeting(&self.elements, &parts[..n], &mut found);
+                tree.elements_meeting(self, &parts[..n], &mut found);
                 found
             }
-            _ => (0..self.elements.len()).collect(),
+            _ => (0..self.balls.len()).collect(),
         }
     }
 
@@ -456,12 +579,12 @@ impl Prepared {
     /// elements: its element index ([`Prepared::tree`]) is asked rather
     /// than every element scanned.
     pub fn indexed(&self) -> bool {
-        self.elements.len() > ELEMENT_INDEX_MIN && self.tree.is_some()
+        self.balls.len() > ELEMENT_INDEX_MIN && self.tree.is_some()
     }
 
     /// True when the geometry has no vertex.
     pub fn is_empty(&self) -> bool {
-        self.elements.is_empty()
+        self.balls.is_empty()
     }
 
     /// The vertices from which containment is probed: every isolated point
@@ -480,20 +603,23 @@ impl Prepared {
 
 /// A ball around all elements: centred on the middle of their centres'
 /// longitude/latitude box (longitudes unwrapped around the first centre).
-fn whole_ball(elements: &[(Element, Ball)]) -> Option<Ball> {
-    let first = elements.first()?.1.centre;
+fn whole_ball(g: &Prepared) -> Option<Ball> {
+    if g.is_empty() {
+        return None;
+    }
+    let first = g.ball(0).centre;
     let (mut lo_x, mut hi_x, mut lo_y, mut hi_y) = (0.0f64, 0.0f64, first.1, first.1);
-    for (_, b) in elements {
-        let x = wrap_delta(first.0, b.centre.0);
+    for centre in g.ball_centres() {
+        let x = wrap_delta(first.0, centre.0);
         lo_x = lo_x.min(x);
         hi_x = hi_x.max(x);
-        lo_y = lo_y.min(b.centre.1);
-        hi_y = hi_y.max(b.centre.1);
+        lo_y = lo_y.min(centre.1);
+        hi_y = hi_y.max(centre.1);
     }
     let centre = (first.0 + (lo_x + hi_x) / 2.0, (lo_y + hi_y) / 2.0);
     let xyz = ecef(centre);
     let mut radius = 0.0f64;
-    for (_, b) in elements {
+    for b in &g.balls {
         radius = radius.max(arc_upper(&xyz, &b.xyz) + b.radius);
     }
     Some(Ball {
@@ -540,8 +666,11 @@ fn winds_around_a_pole(ring: &[LonLat]) -> bool {
     turn.abs() > 180.0
 }
 
-fn bounding_box(elements: &[(Element, Ball)]) -> Option<LonLatBox> {
-    let first = elements.first()?.1.centre;
+fn bounding_box(g: &Prepared) -> Option<LonLatBox> {
+    if g.is_empty() {
+        return None;
+    }
+    let first = g.ball(0).centre;
     let mut b = LonLatBox {
         lon_lo: first.0,
         lon_hi: first.0,
@@ -549,12 +678,12 @@ fn bounding_box(elements: &[(Element, Ball)]) -> Option<LonLatBox> {
         lat_hi: first.1,
     };
     let mut radius = 0.0f64;
-    for (_, ball) in elements {
-        let x = first.0 + wrap_delta(first.0, ball.centre.0);
+    for (centre, ball) in g.ball_centres().zip(&g.balls) {
+        let x = first.0 + wrap_delta(first.0, centre.0);
         b.lon_lo = b.lon_lo.min(x);
         b.lon_hi = b.lon_hi.max(x);
-        b.lat_lo = b.lat_lo.min(ball.centre.1);
-        b.lat_hi = b.lat_hi.max(ball.centre.1);
+        b.lat_lo = b.lat_lo.min(centre.1);
+        b.lat_hi = b.lat_hi.max(centre.1);
         radius = radius.max(ball.radius);
     }
     Some(b.grown(radius))
@@ -576,7 +705,10 @@ mod tests {
         assert_eq!(p.points, vec![(1.0, 2.0)]);
         assert_eq!(p.lines.len(), 1);
         assert_eq!(p.polygons.len(), 1);
-        assert_eq!(p.elements.len(), 1 + 2 + 3);
+        assert_eq!(p.element_count(), 1 + 2 + 3);
+        assert_eq!(p.element(0), Element::Point((1.0, 2.0)));
+        assert_eq!(p.element(2), Element::Edge((1.0, 1.0), (2.0, 1.0)));
+        assert_eq!(p.element(5), Element::Edge((1.0, 1.0), (0.0, 0.0)));
         assert_eq!(p.probes().count(), 3);
     }
 
@@ -605,6 +737,33 @@ mod tests {
                 assert!(d <= ball.radius, "{d} > {}", ball.radius);
             }
         }
+    }
+
+    /// The elements and balls derived from the vertex arrays are those
+    /// built from the vertices directly, bit for bit (brute force over a
+    /// collection with points, a line, a ring across the antimeridian and
+    /// a hole).
+    #[test]
+    fn derived_elements_and_balls_equal_those_built_directly() {
+        let g = wkt::parse(
+            "GEOMETRYCOLLECTION (MULTIPOINT ((1 2), (3 4)),              LINESTRING (0 0, 1 1, 2 1), LINESTRING (5 5, 6 6),              POLYGON ((179 -16, -179 -16, -179 -15, 179 -16)),              POLYGON ((0 0, 4 0, 4 4, 0 0), (1 0.5, 3 0.5, 3 2.5, 1 0.5)))",
+        )
+        .unwrap();
+        let p = Prepared::new(&g);
+        let mut built = vec![Element::Point((1.0, 2.0)), Element::Point((3.0, 4.0))];
+        for chain in p.lines.iter().chain(p.polygons.iter().flatten()) {
+            built.extend(chain.windows(2).map(|w| Element::Edge(w[0], w[1])));
+        }
+        assert_eq!(p.elements().collect::<Vec<_>>(), built);
+        for (i, e) in built.iter().enumerate() {
+            let ball = match *e {
+                Element::Point(q) => Ball::point(q),
+                Element::Edge(a, b) => Ball::edge(a, b),
+            };
+            assert_eq!(p.ball(i), ball, "element {i}");
+        }
+        let centres: Vec<LonLat> = (0..built.len()).map(|i| p.ball(i).centre).collect();
+        assert_eq!(p.ball_centres().collect::<Vec<_>>(), centres);
     }
 
     #[test]

@@ -968,7 +968,7 @@ fn feature_in_plane(
         }
     };
     for k in near {
-        match geometry.elements[k].0 {
+        match geometry.element(k) {
             Element::Point(p) => {
                 if f.reach > 0.0 {
                     pieces.push(Piece::disc(project(p), f.reach));
