@@ -56,12 +56,12 @@ def main():
     latencies = []
 
     def interrupt_after(sql, delay, expected, label):
-        """Runs sql, interrupting it after delay seconds; returns the latency.
+        """Runs sql, interrupting it after delay seconds, and checks the latency.
         When the machine got faster than it was during the measured call
         (another job ended), the call may finish before the interrupt is
         sent: that says nothing about ambit, so the delay is halved and the
-        call run again. A call that goes on after the interrupt was sent is
-        a failure."""
+        call run again. A call that goes on for 1 s or more after the
+        interrupt was sent (the latency allowed below) is a failure."""
         for _ in range(6):
             fired = {}
 
@@ -76,8 +76,11 @@ def main():
                 finished = time.perf_counter()
                 timer.cancel()
                 timer.join()
-                check("at" not in fired or fired["at"] >= finished,
-                      f"{label} after {delay:.2f} s went on after the interrupt")
+                # A call that ends soon after the interrupt may simply have
+                # been done; it is given the latency the check allows.
+                late = finished - fired.get("at", finished)
+                check(late < 1.0, f"{label} after {delay:.2f} s went on {late:.2f} s "
+                      "after the interrupt")
                 print(f"{label} finished before the interrupt at {delay:.2f} s; "
                       f"trying {delay / 2:.2f} s")
                 delay /= 2
