@@ -34,14 +34,9 @@ from geographiclib.geodesic import Geodesic
 from shapely import wkb as shapely_wkb
 from shapely import normalize
 
-checks = 0
+from checks import Checks
 
-
-def check(condition, what):
-    global checks
-    if not condition:
-        raise AssertionError(what)
-    checks += 1
+check = Checks()
 
 
 def gp_geometry(blob):
@@ -141,7 +136,7 @@ def main():
     extra = len(rows) - len(demo_fitness)
     check(extra == 3, f"{extra} rows beyond the demo's")
     print(f"rec_sites.geojson and fitness_list.csv: every demo entry, plus {extra} rows that cannot be placed")
-    print(f"{checks} passed, 0 failed")
+    check.report()
 
 
 if __name__ == "__main__":

@@ -16,14 +16,9 @@ import warnings
 import pyogrio
 import pyogrio.raw
 
-checks = 0
+from checks import Checks
 
-
-def check(condition, what):
-    global checks
-    if not condition:
-        raise AssertionError(what)
-    checks += 1
+check = Checks()
 
 
 def main():
@@ -49,7 +44,7 @@ def main():
         check(not caught, f"{path}: {sorted({str(w.message) for w in caught})}")
         check(set(layers) == registered, f"{path}: GDAL lists {sorted(set(layers) ^ registered)} differently")
         print(f"{path.split('/')[-1]}: {len(layers)} layers read by GDAL without a warning")
-    print(f"{checks} passed, 0 failed")
+    check.report()
 
 
 if __name__ == "__main__":

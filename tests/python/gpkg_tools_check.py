@@ -41,14 +41,9 @@ from shapely import wkb as shapely_wkb
 from shapely.geometry import Point, Polygon, box
 
 SHELL = "/usr/bin/sqlite3"
-checks = 0
+from checks import Checks
 
-
-def check(condition, what):
-    global checks
-    if not condition:
-        raise AssertionError(what)
-    checks += 1
+check = Checks()
 
 
 def shell(path, sql, library=None):
@@ -267,7 +262,7 @@ def main():
         gdal_files(library, tmp)
         ambit_index(library, tmp)
         attributes(library, tmp)
-    print(f"{checks} passed, 0 failed")
+    check.report()
 
 
 if __name__ == "__main__":

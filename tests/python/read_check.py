@@ -42,22 +42,10 @@ import shapefile  # pyshp
 import shapely
 from pyproj import CRS, Transformer
 
-checks = 0
+from checks import Checks, connect
+
+check = Checks()
 WORST = {}  # file: largest coordinate difference from PROJ, degrees
-
-
-def check(condition, what):
-    global checks
-    if not condition:
-        raise AssertionError(what)
-    checks += 1
-
-
-def connect(library):
-    conn = apsw.Connection(":memory:")
-    conn.enable_load_extension(True)
-    conn.load_extension(library)
-    return conn
 
 
 def ambit(conn, path, options=None):
@@ -314,7 +302,7 @@ def main(library):
         compare(conn, os.path.join(examples, rel))
     for name, worst in WORST.items():
         print(f"{name}: largest difference from PROJ {worst:.1e} degrees")
-    print(f"{checks} passed, 0 failed")
+    check.report()
 
 
 if __name__ == "__main__":

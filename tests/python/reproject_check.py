@@ -42,21 +42,9 @@ G = Geodesic.WGS84
 POINTS = 10_000
 TOLERANCE_M = 0.001
 
-checks = 0
+from checks import Checks, connect
 
-
-def check(condition, what):
-    global checks
-    if not condition:
-        raise AssertionError(what)
-    checks += 1
-
-
-def connect(library, path=":memory:"):
-    conn = apsw.Connection(path)
-    conn.enable_load_extension(True)
-    conn.load_extension(library)
-    return conn
+check = Checks()
 
 
 def gpkg_blob(geom, srs_id):
@@ -240,7 +228,7 @@ def main():
     accuracy(library)
     gdal_geopackage(library)
     semantics(library)
-    print(f"{checks} passed, 0 failed")
+    check.report()
 
 
 if __name__ == "__main__":
