@@ -196,6 +196,24 @@ fn quick_upper(a: &Prepared, b: &Prepared) -> f64 {
     arc_upper(&ea.xyz, &eb.xyz) + ea.radius + eb.radius
 }
 
+/// The answers the two geometries' bounding balls give before any
+/// element is looked at: infinity when either is empty, the gap between
+/// the balls when it exceeds `cap` (a lower bound, as [`search`] allows),
+/// and 0 when the balls meet and a probe point of one lies inside the other.
+fn settled_by_balls(a: &Prepared, b: &Prepared, cap: f64, work: &mut Work) -> Option<f64> {
+    let (Some(ball_a), Some(ball_b)) = (a.ball, b.ball) else {
+        return Some(f64::INFINITY);
+    };
+    let gap = ball_a.gap(&ball_b);
+    if gap > cap {
+        return Some(gap);
+    }
+    if gap <= 0.0 && (probes_inside(a, b, work) || probes_inside(b, a, work)) {
+        return Some(0.0);
+    }
+    None
+}
+
 /// The search behind [`distance`] and [`within`]. Returns the exact minimum
 /// distance when it is at most `cap`; with `first_hit`, may instead return
 /// any distance found that is at most `cap`. A result above `cap` means
@@ -212,15 +230,8 @@ fn search(
     work: &mut Work,
     stop: &dyn Interrupt,
 ) -> Result<f64, GeomError> {
-    let (Some(ball_a), Some(ball_b)) = (a.ball, b.ball) else {
-        return Ok(f64::INFINITY);
-    };
-    let gap = ball_a.gap(&ball_b);
-    if gap > cap {
-        return Ok(gap);
-    }
-    if gap <= 0.0 && (probes_inside(a, b, work) || probes_inside(b, a, work)) {
-        return Ok(0.0);
+    if let Some(settled) = settled_by_balls(a, b, cap, work) {
+        return Ok(settled);
     }
     // Any pair of vertices bounds the minimum from above, which bounds the
     // pairs worth looking at.
@@ -353,16 +364,9 @@ pub fn nearest_between(
     cap: f64,
     stop: &dyn Interrupt,
 ) -> Result<f64, GeomError> {
-    let (Some(ball_a), Some(ball_b)) = (a.ball, b.ball) else {
-        return Ok(f64::INFINITY);
-    };
-    let gap = ball_a.gap(&ball_b);
-    if gap > cap {
-        return Ok(gap);
-    }
     let mut work = Work::default();
-    if gap <= 0.0 && (probes_inside(a, b, &mut work) || probes_inside(b, a, &mut work)) {
-        return Ok(0.0);
+    if let Some(settled) = settled_by_balls(a, b, cap, &mut work) {
+        return Ok(settled);
     }
     let (Some(root_a), Some(root_b)) = (ta.root(), tb.root()) else {
         return Ok(f64::INFINITY);
