@@ -339,3 +339,101 @@ fn far_blocks_get_the_exact_nearest_distance() {
         );
     }
 }
+
+/// The cheap path of the reach question (ambit::proximity::quick) against
+/// brute force: random blocks near random layers, each answered both ways;
+/// a decided verdict is always right, and all three verdicts occur (so the
+/// comparison covers the cheap answers as well as the exact fallback).
+#[test]
+fn the_quick_reach_verdict_agrees_with_brute_force() {
+    use ambit::proximity::quick::{reached, reached_verdict, Verdict};
+    let mut rng = XorShift(0x9e1c_0a75);
+    let mut seen = [0usize; 3];
+    for (centre, spread) in [
+        ((-131.0, 38.5), 0.4),
+        ((12.0, -40.0), 0.3),
+        ((179.95, -17.0), 0.3),
+        ((25.0, 79.5), 0.2),
+    ] {
+        let layer = Layer::new(random_layer(&mut rng, centre, spread, 120));
+        for b in 0..400 {
+            let c = (
+                centre.0 + rng.uniform(-spread, spread),
+                centre.1 + rng.uniform(-spread, spread) * 0.7,
+            );
+            let text = match rng.below(5) {
+                0 => format!("POINT ({} {})", c.0, c.1),
+                1 => format!(
+                    "LINESTRING ({} {}, {} {})",
+                    c.0,
+                    c.1,
+                    c.0 + 0.003,
+                    c.1 + 0.001
+                ),
+                _ => format!("POLYGON ({})", ring(&mut rng, c, 10, 0.0015)),
+            };
+            let g = wkt::parse(&text).unwrap();
+            validate(&g, 4326).unwrap();
+            let block = Prepared::new(&g);
+            let truth = layer
+                .features()
+                .iter()
+                .any(|f| distance(&block, &f.geometry).unwrap() <= f.reach);
+            let verdict = reached_verdict(&layer, &g);
+            match verdict {
+                Verdict::Reached => assert!(truth, "{centre:?} block {b}: {text}"),
+                Verdict::NotReached => assert!(!truth, "{centre:?} block {b}: {text}"),
+                Verdict::Undecided => {}
+            }
+            seen[verdict as usize] += 1;
+            assert_eq!(
+                reached(&layer, &g, &ambit::interrupt::Never).unwrap(),
+                truth,
+                "{centre:?} block {b}: {text}"
+            );
+        }
+    }
+    assert!(seen.iter().all(|&n| n > 20), "verdicts seen: {seen:?}");
+}
+
+/// A block vertex a millimetre beyond a point facility's reach is not taken
+/// as reached by the cheap path, and one a millimetre inside is; distances
+/// from Karney's direct problem (geographiclib-rs), so they do not come
+/// from ambit's own geodesy.
+#[test]
+fn the_quick_reach_verdict_holds_at_the_reach_boundary() {
+    use ambit::proximity::quick::{reached, reached_verdict, Verdict};
+    use geographiclib_rs::{DirectGeodesic, Geodesic};
+    let wgs84 = Geodesic::wgs84();
+    let reach = METRES_PER_MILE;
+    let facility = (-131.2, 38.4);
+    let layer = Layer::new(vec![feature(
+        1,
+        &format!("POINT ({} {})", facility.0, facility.1),
+        reach,
+    )]);
+    for azimuth in [0.0, 37.0, 90.0, 181.0, 300.0] {
+        for (offset, inside) in [(-0.001, true), (0.001, false)] {
+            let (lat, lon): (f64, f64) =
+                wgs84.direct(facility.1, facility.0, azimuth, reach + offset);
+            // A small block whose nearest point to the facility is this
+            // vertex: it extends straight away from the facility.
+            let (lat2, lon2): (f64, f64) =
+                wgs84.direct(facility.1, facility.0, azimuth, reach + offset + 150.0);
+            let (lat3, lon3): (f64, f64) = wgs84.direct(lat, lon, azimuth + 90.0, 80.0);
+            let text =
+                format!("POLYGON (({lon} {lat}, {lon3} {lat3}, {lon2} {lat2}, {lon} {lat}))");
+            let g = wkt::parse(&text).unwrap();
+            validate(&g, 4326).unwrap();
+            let verdict = reached_verdict(&layer, &g);
+            if !inside {
+                assert_ne!(verdict, Verdict::Reached, "azimuth {azimuth}: {text}");
+            }
+            assert_eq!(
+                reached(&layer, &g, &ambit::interrupt::Never).unwrap(),
+                inside,
+                "azimuth {azimuth}, offset {offset}"
+            );
+        }
+    }
+}

@@ -541,6 +541,19 @@ impl Layer {
         })
     }
 
+    /// The positions of the features whose reach-grown boxes meet `b`, in
+    /// the index's order (a feature may come twice when its box was split
+    /// at the antimeridian). A feature within its reach of a geometry
+    /// inside `b` is always among them.
+    pub fn candidates_in<'a>(&'a self, b: &LonLatBox) -> impl Iterator<Item = usize> + 'a {
+        let (parts, n) = b.normalised_parts();
+        parts.into_iter().take(n).flat_map(move |q| {
+            self.tree
+                .locate_in_envelope_intersecting(q)
+                .map(|e| e.data as usize)
+        })
+    }
+
     /// Features whose reach-grown boxes meet `g`'s box grown by `grow_m`,
     /// in the order they were added. A feature within `grow_m` metres of
     /// `g`, or within its own reach of `g`, is always among them.

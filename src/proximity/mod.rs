@@ -9,6 +9,7 @@ pub mod distance;
 pub mod layer;
 pub mod pieces;
 pub mod prepared;
+pub mod quick;
 pub mod share;
 pub mod validity;
 

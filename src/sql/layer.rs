@@ -14,7 +14,7 @@ use crate::error::GeomError;
 use crate::geometry::Geometry;
 use crate::interrupt::Interrupt;
 use crate::memory;
-use crate::proximity::{Feature, Layer, Prepared};
+use crate::proximity::{quick, Feature, Layer, Prepared};
 use crate::sql::interrupt::{run_parallel, HostInterrupt};
 use crate::sql::state::ConnState;
 use crate::sql::{error, guard, interrupted, progress, Args, SqlFunction, SqlResult};
@@ -101,10 +101,12 @@ fn query_error(args: &Args, e: GeomError) -> rusqlite::Error {
 }
 
 fn reached(args: &Args) -> SqlResult {
-    Ok(match query(args)? {
-        Some((layer, g)) => Value::Integer(
-            layer
-                .reached_until(&g, &args.interrupt())
+    let Some(layer) = layer_arg(args)? else {
+        return Ok(Value::Null);
+    };
+    Ok(match args.geometry(1)? {
+        Some(d) => Value::Integer(
+            quick::reached(&layer, &d.geometry, &args.interrupt())
                 .map_err(|e| query_error(args, e))?
                 .into(),
         ),

@@ -55,8 +55,7 @@ use rusqlite::vtab::{Context, Filters, IndexInfo, VTab, VTabConnection, VTabCurs
 
 use crate::blob;
 use crate::interrupt::{Interrupt, StopFlag};
-use crate::proximity::boxes::{ball_around, envelope};
-use crate::proximity::{Layer, Prepared};
+use crate::proximity::{quick, Layer, Prepared};
 use crate::sql::interrupt::HostInterrupt;
 use crate::sql::state::ConnState;
 use crate::sql::tables::{argument_plan_with, arguments, table_error};
@@ -155,6 +154,30 @@ impl RawQuery {
         }
     }
 
+    /// Column `i` of the current row as a geometry cell: a blob is appended
+    /// to `arena` (one allocation per chunk instead of one per row) and
+    /// named by its range there; NULL stays NULL; other values are copied.
+    fn geometry_cell(&self, i: usize, arena: &mut Vec<u8>) -> Cell {
+        // SAFETY: stmt has a current row (step returned true) and i is a
+        // column index below columns(); the blob pointer is copied from
+        // before any further call on the statement.
+        unsafe {
+            match ffi::sqlite3_column_type(self.stmt, i as c_int) {
+                ffi::SQLITE_BLOB => {
+                    let p = ffi::sqlite3_column_blob(self.stmt, i as c_int).cast::<u8>();
+                    let n = ffi::sqlite3_column_bytes(self.stmt, i as c_int) as usize;
+                    let start = arena.len();
+                    if !p.is_null() {
+                        arena.extend_from_slice(std::slice::from_raw_parts(p, n));
+                    }
+                    Cell::Blob(start..arena.len())
+                }
+                ffi::SQLITE_NULL => Cell::Null,
+                _ => Cell::Other(self.value(i)),
+            }
+        }
+    }
+
     /// Column `i` of the current row, copied.
     pub fn value(&self, i: usize) -> Value {
         let i = i as c_int;
@@ -199,6 +222,36 @@ impl Drop for RawQuery {
     }
 }
 
+/// The geometry column of one input row: its blob's bytes in the chunk's
+/// arena, NULL, or any other value (an error when evaluated).
+enum Cell {
+    Null,
+    Blob(std::ops::Range<usize>),
+    Other(Value),
+}
+
+/// Input rows read from the query: ids, and geometries whose blobs lie
+/// one after another in `arena`.
+#[derive(Default)]
+struct Chunk {
+    ids: Vec<Value>,
+    cells: Vec<Cell>,
+    arena: Vec<u8>,
+}
+
+impl Chunk {
+    fn len(&self) -> usize {
+        self.ids.len()
+    }
+}
+
+/// A geometry cell with its bytes, as [`evaluate`] reads it.
+enum Geom<'a> {
+    Null,
+    Blob(&'a [u8]),
+    Other(&'a Value),
+}
+
 /// One output row.
 struct Row {
     id: Value,
@@ -235,25 +288,24 @@ impl Wanted {
 fn evaluate(
     layer: &Layer,
     id: Value,
-    geom: Value,
+    geom: Geom<'_>,
     wanted: Wanted,
     max_m: Option<f64>,
     stop: &dyn Interrupt,
 ) -> Result<Row, String> {
-    let (reached, nearest, share) = match &geom {
-        Value::Null => (Value::Null, Value::Null, Value::Null),
-        Value::Blob(bytes) => {
+    let (reached, nearest, share) = match geom {
+        Geom::Null => (Value::Null, Value::Null, Value::Null),
+        Geom::Blob(bytes) => {
             let fail = |e: &dyn std::fmt::Display| format!("row with id {}: {e}", show(&id));
             let decoded = blob::decode_valid(bytes).map_err(|e| fail(&e))?;
-            // Reached alone, and no feature's box near the geometry's
-            // envelope: not reached, without preparing it.
-            if wanted.0 == 1 << COL_REACHED
-                && envelope(&decoded.geometry)
-                    .is_some_and(|b| !layer.may_reach(&b, Some(&ball_around(&b))))
-            {
+            // Reached alone: decided from the envelope and a few vertices
+            // where the layer's boxes and balls settle it, otherwise by the
+            // exact test (crate::proximity::quick), as ambit_reached does.
+            if wanted.0 == 1 << COL_REACHED {
+                let r = quick::reached(layer, &decoded.geometry, stop).map_err(|e| fail(&e))?;
                 return Ok(Row {
                     id,
-                    reached: Value::Integer(0),
+                    reached: Value::Integer(r.into()),
                     nearest: Value::Null,
                     share: Value::Null,
                 });
@@ -290,7 +342,7 @@ fn evaluate(
                 share.map_or(Value::Null, Value::Real),
             )
         }
-        other => {
+        Geom::Other(other) => {
             return Err(format!(
                 "row with id {}: the query's second column must be a geometry blob, got {}",
                 show(&id),
@@ -427,6 +479,8 @@ struct Run {
     finished: bool,
     /// The chunk being evaluated while the cursor hands out the one before.
     pending: Option<Pending>,
+    /// The largest arena a chunk has needed (the next one reserves that).
+    arena_hint: usize,
     progress: Option<Progress>,
 }
 
@@ -481,6 +535,7 @@ impl SweepCursor<'_> {
             query,
             finished: false,
             pending: None,
+            arena_hint: 0,
             progress,
         });
         self.next_chunk()
@@ -488,12 +543,20 @@ impl SweepCursor<'_> {
 
     /// Reads `run`'s next chunk of rows (fewer at the end, then
     /// `run.finished`).
-    fn read_chunk(run: &mut Run) -> rusqlite::Result<Vec<(Value, Value)>> {
+    fn read_chunk(run: &mut Run) -> rusqlite::Result<Chunk> {
         let limit = chunk_rows();
-        let mut input = Vec::with_capacity(limit.min(1 << 16));
-        while input.len() < limit {
+        let mut chunk = Chunk {
+            ids: Vec::with_capacity(limit.min(1 << 16)),
+            cells: Vec::with_capacity(limit.min(1 << 16)),
+            arena: Vec::with_capacity(run.arena_hint),
+        };
+        while chunk.len() < limit {
             match run.query.step() {
-                Ok(true) => input.push((run.query.value(0), run.query.value(1))),
+                Ok(true) => {
+                    chunk.ids.push(run.query.value(0));
+                    let cell = run.query.geometry_cell(1, &mut chunk.arena);
+                    chunk.cells.push(cell);
+                }
                 Ok(false) => {
                     run.finished = true;
                     break;
@@ -506,7 +569,8 @@ impl SweepCursor<'_> {
                 }
             }
         }
-        Ok(input)
+        run.arena_hint = run.arena_hint.max(chunk.arena.len());
+        Ok(chunk)
     }
 
     /// Hands the next chunk's rows to the cursor. Pipelined: the chunk
@@ -524,11 +588,11 @@ impl SweepCursor<'_> {
             if run.finished {
                 return Ok(());
             }
-            let input = SweepCursor::read_chunk(run)?;
-            run.pending = Some(Pending::start(run, input));
+            let chunk = SweepCursor::read_chunk(run)?;
+            run.pending = Some(Pending::start(run, chunk));
         }
         let next = if run.finished {
-            Vec::new()
+            Chunk::default()
         } else {
             SweepCursor::read_chunk(run)?
         };
@@ -544,7 +608,7 @@ impl SweepCursor<'_> {
             Some(message) => table_error(SWEEP, message),
             None => interrupted(SWEEP),
         })?;
-        if !next.is_empty() {
+        if next.len() > 0 {
             run.pending = Some(Pending::start(run, next));
         }
         if let Some(p) = run.progress.as_mut() {
@@ -570,10 +634,10 @@ impl Pending {
     /// flag before every row (and the costly searches inside a row), and
     /// [`Pending::wait`] sets it within a few milliseconds of an interrupt
     /// (Ctrl-C), as does dropping the value (the cursor closed early).
-    fn start(run: &Run, input: Vec<(Value, Value)>) -> Pending {
+    fn start(run: &Run, chunk: Chunk) -> Pending {
         let stop = Arc::new(StopFlag::new());
         let (sender, result) = sync_channel(1);
-        let rows = input.len() as u64;
+        let rows = chunk.len() as u64;
         let (layer, wanted, max_m, flag) = (
             Arc::clone(&run.layer),
             run.wanted,
@@ -581,14 +645,20 @@ impl Pending {
             Arc::clone(&stop),
         );
         rayon::spawn(move || {
+            let Chunk { ids, cells, arena } = chunk;
             let work = || {
-                input
-                    .into_par_iter()
+                ids.into_par_iter()
+                    .zip(cells.into_par_iter())
                     .with_max_len(ROWS_PER_TASK)
-                    .map(|(id, geom)| {
+                    .map(|(id, cell)| {
                         if flag.requested() {
                             return Err(None);
                         }
+                        let geom = match &cell {
+                            Cell::Null => Geom::Null,
+                            Cell::Blob(range) => Geom::Blob(&arena[range.clone()]),
+                            Cell::Other(v) => Geom::Other(v),
+                        };
                         evaluate(&layer, id, geom, wanted, max_m, &*flag).map_err(Some)
                     })
                     .collect()
