@@ -12,7 +12,7 @@ use rstar::{Envelope as _, AABB};
 
 use crate::geodesy::local::degrees_padding;
 use crate::geometry::{Geometry, Shape};
-use crate::proximity::prepared::Ball;
+use crate::proximity::prepared::{Ball, LonLat};
 
 /// Degrees added on every side of every box, far above round-off.
 const OUTWARD: f64 = 1e-9;
@@ -242,6 +242,27 @@ pub fn ball_around(b: &LonLatBox) -> Ball {
     }
 }
 
+/// [`ball_around`] centred on a point `p` of the box instead of its middle
+/// (`p_xyz` its Earth-centred coordinates, which the caller has already
+/// computed, so no trigonometry here beyond one cosine): the path from `p`
+/// to any point of the box spans at most the box's whole latitude and
+/// longitude extents, twice the half extents [`ball_around`] uses.
+pub fn ball_around_vertex(b: &LonLatBox, p: LonLat, p_xyz: [f64; 3]) -> Ball {
+    let nearest_equator = if b.lat_lo <= 0.0 && b.lat_hi >= 0.0 {
+        0.0
+    } else {
+        b.lat_lo.abs().min(b.lat_hi.abs())
+    };
+    let lat = b.lat_hi - b.lat_lo;
+    let lon = b.lon_hi - b.lon_lo;
+    let path = (lat + lon * nearest_equator.to_radians().cos().min(1.0)).to_radians();
+    Ball {
+        centre: p,
+        radius: path * MAX_RADIUS * (1.0 + 1e-12) + 1e-6,
+        xyz: p_xyz,
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -347,14 +368,21 @@ mod tests {
                     );
                 }
             }
-            let ball = ball_around(&b);
-            for i in 0..=10 {
-                for j in 0..=10 {
-                    let lon = b.lon_lo + (b.lon_hi - b.lon_lo) * i as f64 / 10.0;
-                    let lat =
-                        (b.lat_lo + (b.lat_hi - b.lat_lo) * j as f64 / 10.0).clamp(-90.0, 90.0);
-                    let d = inverse::distance(ball.centre.0, ball.centre.1, lon, lat);
-                    assert!(d <= ball.radius, "case {case}: {d} > {}", ball.radius);
+            // The ball around the middle, and the one around the first
+            // vertex (how proximity::quick uses it).
+            let first = pts[0];
+            for ball in [
+                ball_around(&b),
+                ball_around_vertex(&b, first, crate::proximity::prepared::ecef(first)),
+            ] {
+                for i in 0..=10 {
+                    for j in 0..=10 {
+                        let lon = b.lon_lo + (b.lon_hi - b.lon_lo) * i as f64 / 10.0;
+                        let lat =
+                            (b.lat_lo + (b.lat_hi - b.lat_lo) * j as f64 / 10.0).clamp(-90.0, 90.0);
+                        let d = inverse::distance(ball.centre.0, ball.centre.1, lon, lat);
+                        assert!(d <= ball.radius, "case {case}: {d} > {}", ball.radius);
+                    }
                 }
             }
         }

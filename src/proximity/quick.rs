@@ -7,7 +7,7 @@
 //! every edge). Most blocks do not need it:
 //! - **not reached**: no feature's reach-grown box meets the block's
 //!   envelope, or every such feature's ball lies farther than its reach
-//!   from a ball around that envelope ([`Ball::gap`] is a lower bound on
+//!   from a ball around that envelope (centred on the first probe vertex) ([`Ball::gap`] is a lower bound on
 //!   the distance between any point of one and any point of the other);
 //! - **reached**: one of a few probe vertices of the block lies within
 //!   reach of every point of some feature: the chord's upper bound on the
@@ -25,7 +25,7 @@
 use crate::error::GeomError;
 use crate::geometry::Geometry;
 use crate::interrupt::Interrupt;
-use crate::proximity::boxes::{ball_around, envelope};
+use crate::proximity::boxes::{ball_around_vertex, envelope};
 use crate::proximity::layer::Layer;
 use crate::proximity::prepared::{arc_upper, ecef, LonLat, Prepared};
 
@@ -81,11 +81,13 @@ pub fn reached_verdict(layer: &Layer, g: &Geometry) -> Verdict {
     if n == 0 {
         return Verdict::Undecided;
     }
-    let around = ball_around(&b);
-    // The first probe against every candidate as it comes from the index
-    // (most reached blocks stop at the first); the others, whose
-    // coordinates cost trigonometry, only against the candidates kept here.
-    let mut first: Option<[f64; 3]> = None;
+    // A ball around the envelope centred on the first probe, whose
+    // coordinates serve both: it is tried against every candidate as it
+    // comes from the index (most reached blocks stop at the first); the
+    // other probes, whose coordinates cost trigonometry, only against the
+    // candidates kept here.
+    let first = ecef(probes[0]);
+    let around = ball_around_vertex(&b, probes[0], first);
     let mut kept = [0usize; KEEP];
     let mut kept_len = 0;
     let mut maybe = false;
@@ -101,8 +103,7 @@ pub fn reached_verdict(layer: &Layer, g: &Geometry) -> Verdict {
         if ball.radius > f.reach {
             continue;
         }
-        let x = first.get_or_insert_with(|| ecef(probes[0]));
-        if arc_upper(x, &ball.xyz) + ball.radius <= f.reach {
+        if arc_upper(&first, &ball.xyz) + ball.radius <= f.reach {
             return Verdict::Reached;
         }
         if kept_len < KEEP {
