@@ -40,11 +40,25 @@ pub fn timed(cmd: &mut Command) -> (String, String, f64, f64) {
 
 /// Runs SQL in the stock shell with ambit loaded, under /usr/bin/time.
 pub fn shell(db: &Path, env: &[(&str, &str)], sql: &str) -> (String, f64, f64) {
+    shell_on(db, env, sql, None)
+}
+
+/// [`shell`], with the shell and all its threads pinned to the CPUs listed
+/// in `cpus` (taskset's list syntax, e.g. "0") when given.
+pub fn shell_on(
+    db: &Path,
+    env: &[(&str, &str)],
+    sql: &str,
+    cpus: Option<&str>,
+) -> (String, f64, f64) {
     let script = db.with_extension(format!("{}.sql", std::process::id()));
     std::fs::write(&script, format!(".load {}\n{sql}\n", library().display())).unwrap();
     let mut cmd = Command::new("/usr/bin/time");
-    cmd.arg("-v")
-        .arg("/usr/bin/sqlite3")
+    cmd.arg("-v");
+    if let Some(cpus) = cpus {
+        cmd.args(["taskset", "-c", cpus]);
+    }
+    cmd.arg("/usr/bin/sqlite3")
         .arg("-bail")
         .arg(db)
         .arg(format!(".read {}", script.display()))
