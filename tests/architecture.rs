@@ -46,6 +46,7 @@ fn only_the_sql_layer_imports_rusqlite_and_only_the_entry_point_is_unsafe() {
             "src/sql/reproject.rs",
             "src/sql/interrupt.rs",
             "src/sql/read.rs",
+            "src/sql/layer_from.rs",
         ]
         .contains(&rel.as_str());
         if !ffi {

@@ -313,3 +313,84 @@ fn interrupts_stop_layer_builds_and_far_nearest_searches_promptly_and_change_not
         String::from_utf8_lossy(&out.stderr)
     );
 }
+
+/// ambit_layer_from reads its rows itself, so an error of SQLite's own in
+/// a later row (here an integer overflow, which ambit_layer's aggregate
+/// cannot see) fails the statement and leaves the layer as it was: with
+/// its old answers when it existed, absent when it was new.
+#[test]
+fn ambit_layer_from_leaves_the_layer_unchanged_after_an_error_of_sqlite() {
+    let build = "SELECT ambit_layer_from('x', 'SELECT g, 10, i FROM (SELECT 1 AS i, ST_Point(1, 2.01) AS g \
+                 UNION ALL SELECT 2, ST_Point(1.5, 2) UNION ALL SELECT 3, ST_Point(5, 5))');";
+    let overflow = "SELECT ambit_layer_from('x', 'SELECT g, 10, CASE WHEN i = 3 THEN abs(-9223372036854775807 - 1) ELSE 10 + i END FROM \
+                    (SELECT 1 AS i, ST_Point(7, 7) AS g UNION ALL SELECT 2, ST_Point(8, 8) UNION ALL SELECT 3, ST_Point(9, 9))');";
+    let (out, err) = run(&format!("{build}\n{ANSWERS}\n{overflow}\n{ANSWERS}"));
+    assert!(
+        err.contains(
+            "ambit_layer_from: the query failed: integer overflow; the layer is unchanged"
+        ),
+        "{err}"
+    );
+    let rows = answers(&out);
+    assert_eq!(rows.len(), 4, "{out}");
+    assert_eq!(rows[0], rows[2], "ambit_layers row changed");
+    assert_eq!(rows[1], rows[3], "answers changed");
+    assert!(rows[0].starts_with("#|3|3|"), "{out}");
+    // A new layer stays absent.
+    let (out, err) = run(&format!(
+        "{}\nSELECT '#', count(*) FROM ambit_layers;",
+        overflow.replace("'x'", "'y'")
+    ));
+    assert!(err.contains("integer overflow"), "{err}");
+    assert_eq!(answers(&out), ["#|0"], "{out}");
+    // The same statement with ambit_layer adds the row before the error:
+    // the case ambit_layer_from exists for (README, ambit_layer).
+    let (out, err) = run(
+        "SELECT ambit_layer('z', g, 10, CASE WHEN i = 3 THEN abs(-9223372036854775807 - 1) ELSE 10 + i END) FROM \
+         (SELECT 1 AS i, ST_Point(7, 7) AS g UNION ALL SELECT 2, ST_Point(8, 8) UNION ALL SELECT 3, ST_Point(9, 9));\n\
+         SELECT '#', features FROM ambit_layers WHERE name = 'z';",
+    );
+    assert!(err.contains("integer overflow"), "{err}");
+    assert_eq!(answers(&out), ["#|2"], "{out}");
+}
+
+/// ambit_layer_from builds the same layer as ambit_layer from the same
+/// rows, refuses ids the layer holds, and names the query's row and column
+/// in its errors; writing or multi-statement queries are refused before
+/// they run.
+#[test]
+fn ambit_layer_from_builds_what_ambit_layer_builds_and_explains_its_errors() {
+    let rows = "SELECT ST_Point(1, 2.01) AS g, 10 AS r, 1 AS i UNION ALL SELECT ST_Point(1.5, 2), '1 km', 2 \
+                UNION ALL SELECT ST_GeomFromText('POLYGON ((3 3, 3.1 3, 3.1 3.1, 3 3.1, 3 3))'), 0, 3";
+    let sql = format!(
+        "CREATE TABLE src AS {rows};\n\
+         SELECT '#', ambit_layer('x', g, r, i) FROM src;\n{ANSWERS}\n\
+         SELECT ambit_layer_drop('x');\n\
+         SELECT '#', ambit_layer_from('x', 'SELECT g, r, i FROM src');\n{ANSWERS}\n\
+         SELECT ambit_layer_from('x', 'SELECT g, r, i FROM src');\n\
+         SELECT ambit_layer_from('w', 'SELECT g, ''-3 m'', i FROM src');\n\
+         SELECT ambit_layer_from('w', 'DELETE FROM src RETURNING g');\n\
+         SELECT ambit_layer_from('w', 'SELECT g FROM src; SELECT 1');\n\
+         SELECT ambit_layer_from('w', 'SELECT g, r, i, 4 FROM src');\n\
+         SELECT '#', count(*) FROM src;\n\
+         SELECT '#', count(*) FROM ambit_layers WHERE name = 'w';"
+    );
+    let (out, err) = run(&sql);
+    let got = answers(&out);
+    assert_eq!(got.len(), 8, "{out}\n{err}");
+    assert_eq!(got[0], "#|3");
+    assert_eq!(got[3], "#|3");
+    assert_eq!(got[1], got[4], "ambit_layers rows differ");
+    assert_eq!(got[2], got[5], "answers differ");
+    assert_eq!(got[6], "#|3", "the table lost rows");
+    assert_eq!(got[7], "#|0", "a failed call left a layer");
+    for needle in [
+        "ambit_layer_from: layer 'x' already holds feature id 1",
+        "ambit_layer_from: row 1 of the query, column 2 (reach_m)",
+        "ambit_layer_from: argument 2 (query): must be a read-only SELECT",
+        "ambit_layer_from: argument 2 (query): must be a single SELECT",
+        "ambit_layer_from: argument 2 (query): must return 1 to 3 columns",
+    ] {
+        assert!(err.contains(needle), "missing {needle:?} in:\n{err}");
+    }
+}

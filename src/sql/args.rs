@@ -19,6 +19,9 @@ pub struct Args<'a> {
     len: usize,
     state: &'a ConnState,
     call: Option<&'a rusqlite::functions::Context<'a>>,
+    /// Values after the first are the columns of a query's row (see
+    /// [`Args::from_query_row`]): messages name them as columns.
+    query_row: Option<i64>,
 }
 
 /// The most arguments any ambit function takes (held inline: no allocation
@@ -81,7 +84,16 @@ impl<'a> Args<'a> {
             len,
             state,
             call: None,
+            query_row: None,
         }
+    }
+
+    /// The same values, where all but the first are the columns of row
+    /// `row` (1-based) of a query the function runs itself: errors say
+    /// "row 3 of the query, column 2 (reach_m)" instead of "argument 3".
+    pub fn from_query_row(mut self, row: i64) -> Self {
+        self.query_row = Some(row);
+        self
     }
 
     /// The same arguments, knowing the function call they belong to (so a
@@ -136,7 +148,12 @@ impl<'a> Args<'a> {
     /// An error about argument `i` (0-based): `argument 2 (y): ...`.
     pub fn fail_arg(&self, i: usize, message: impl std::fmt::Display) -> rusqlite::Error {
         let param = self.params.get(i).copied().unwrap_or("?");
-        self.fail(format!("argument {} ({param}): {message}", i + 1))
+        match self.query_row {
+            Some(row) if i >= 1 => self.fail(format!(
+                "row {row} of the query, column {i} ({param}): {message}"
+            )),
+            _ => self.fail(format!("argument {} ({param}): {message}", i + 1)),
+        }
     }
 
     /// The blob of argument `i`; NULL (or an omitted argument) gives `None`.

@@ -178,12 +178,12 @@ fn drop_layer(args: &Args) -> SqlResult {
 
 /// Features read by one ambit_layer call, prepared when it finishes.
 #[derive(Default)]
-pub struct Pending {
-    name: Option<String>,
+pub(crate) struct Pending {
+    pub(crate) name: Option<String>,
     rows: i64,
-    features: Vec<(i64, f64, Geometry)>,
+    pub(crate) features: Vec<(i64, f64, Geometry)>,
     /// True when the call gives no feature_id (ids are row numbers).
-    implicit_ids: bool,
+    pub(crate) implicit_ids: bool,
     /// The layer this call adds to, as it was at the first row: ids it
     /// holds are refused at once.
     base: Option<Arc<Layer>>,
@@ -221,14 +221,19 @@ fn detached<T: Send + 'static>(
     }
 }
 
-/// The aggregate ambit_layer(name, geom [, reach_m [, feature_id]]).
-struct LayerBuilder {
-    state: Arc<ConnState>,
+/// Builds layers: the aggregate ambit_layer(name, geom [, reach_m [,
+/// feature_id]]), and ambit_layer_from (crate::sql::layer_from), which
+/// feeds it the rows of its query.
+pub(crate) struct LayerBuilder {
+    pub(crate) state: Arc<ConnState>,
+    /// The SQL function building, as its messages name it.
+    pub(crate) function: &'static str,
 }
 
 /// The SQL error for a layer that could not be built from `count`
 /// features (of which an estimated `bytes` of memory were needed).
 fn build_error(
+    function: &'static str,
     name: &str,
     count: usize,
     bytes: usize,
@@ -236,9 +241,9 @@ fn build_error(
     e: GeomError,
 ) -> rusqlite::Error {
     match e {
-        GeomError::Interrupted => interrupted(LAYER),
+        GeomError::Interrupted => interrupted(function),
         GeomError::OutOfMemory { .. } => error(
-            LAYER,
+            function,
             format!(
                 "not enough memory for layer '{name}' ({count} features, about {}): {e}; the layer is unchanged. \
                  Build it from fewer or simpler features, or allow the process more memory",
@@ -246,7 +251,7 @@ fn build_error(
             ),
         ),
         GeomError::DuplicateFeatureId { id, earlier: true } => error(
-            LAYER,
+            function,
             format!(
                 "layer '{name}' already holds feature id {id}{}; a layer never holds an id twice \
                  (adding the same rows again would count them twice): drop it first with \
@@ -259,18 +264,18 @@ fn build_error(
             ),
         ),
         GeomError::DuplicateFeatureId { id, earlier: false } => error(
-            LAYER,
+            function,
             format!(
                 "feature id {id} is given twice for layer '{name}'; a layer never holds an id twice: \
                  give every feature its own id (a table's primary key, for example); the layer is unchanged"
             ),
         ),
-        other => error(LAYER, format!("layer '{name}': {other}")),
+        other => error(function, format!("layer '{name}': {other}")),
     }
 }
 
 impl LayerBuilder {
-    fn step_args(&self, args: &Args, acc: &mut Pending) -> rusqlite::Result<()> {
+    pub(crate) fn step_args(&self, args: &Args, acc: &mut Pending) -> rusqlite::Result<()> {
         acc.rows += 1;
         let name = args
             .text(0)?
@@ -306,11 +311,12 @@ impl LayerBuilder {
         }
         if acc.base.as_ref().is_some_and(|b| b.holds(id)) {
             let e = GeomError::DuplicateFeatureId { id, earlier: true };
-            return Err(build_error(name, 0, 0, acc.implicit_ids, e));
+            return Err(build_error(self.function, name, 0, 0, acc.implicit_ids, e));
         }
         let n = acc.features.len() + 1;
         memory::reserve_one(&mut acc.features).map_err(|e| {
             build_error(
+                self.function,
                 name,
                 n,
                 n * std::mem::size_of::<(i64, f64, Geometry)>(),
@@ -327,7 +333,7 @@ impl LayerBuilder {
     /// layer stays as it was (absent, or with its old features, index and
     /// answers). The old layer answers queries until the new one replaces
     /// it.
-    fn build(
+    pub(crate) fn build(
         &self,
         host: &HostInterrupt<'_>,
         name: &str,
@@ -343,7 +349,9 @@ impl LayerBuilder {
             return Ok(0);
         }
         let base_len = base.as_ref().map_or(0, |b| b.features().len());
-        let fail = |bytes: usize, e: GeomError| build_error(name, added, bytes, implicit_ids, e);
+        let fail = |bytes: usize, e: GeomError| {
+            build_error(self.function, name, added, bytes, implicit_ids, e)
+        };
         let mut ids: Vec<i64> = memory::vec_with_capacity(added).map_err(|e| fail(added * 8, e))?;
         ids.extend(rows.iter().map(|r| r.0));
         let all_ids = Layer::check_ids(base.as_deref(), &ids).map_err(|e| fail(added * 16, e))?;
@@ -351,7 +359,11 @@ impl LayerBuilder {
         let bytes = Layer::estimated_bytes(base_len + added, rows.iter().map(|r| &r.2));
         memory::probe(bytes).map_err(|e| fail(bytes, e))?;
 
-        let meter = progress::Meter::start(format!("{LAYER} '{name}'"), "features", added as u64);
+        let meter = progress::Meter::start(
+            format!("{} '{name}'", self.function),
+            "features",
+            added as u64,
+        );
         let report = |done: usize| {
             if let Some(m) = &meter {
                 m.report(done as u64)
@@ -483,6 +495,7 @@ pub fn register_aggregate(conn: &Connection, state: &Arc<ConnState>) -> rusqlite
             FunctionFlags::SQLITE_UTF8,
             LayerBuilder {
                 state: Arc::clone(state),
+                function: LAYER,
             },
         )?;
     }

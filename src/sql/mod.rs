@@ -14,6 +14,7 @@ pub mod info;
 pub mod interrupt;
 pub mod io;
 pub mod layer;
+pub mod layer_from;
 pub mod measure;
 pub mod progress;
 pub mod read;
@@ -114,6 +115,7 @@ pub fn register(conn: &Connection) -> rusqlite::Result<()> {
         }
     }
     layer::register_aggregate(conn, &state)?;
+    layer_from::register(conn, &state)?;
     gpkg::register(conn)?;
     render::register(conn)?;
     stats::register(conn)?;

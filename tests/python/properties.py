@@ -51,7 +51,9 @@ KNOWN_FAILING = {
     # ambit_layer; DEVELOPERS.md). Errors of ambit's functions in the same
     # statement and sqlite3_interrupt are seen and leave the layer unchanged
     # (property layer_unchanged_after_failure, tests/host_layer_atomic.rs).
-    "layer_unchanged_after_sqlite_error": "open: needs a layer builder that runs its query itself",
+    # ambit_layer_from runs its query itself and sees those errors
+    # (property layer_from_errors_and_leaves_layer_unchanged).
+    "layer_unchanged_after_sqlite_error": "by design of SQLite aggregates; use ambit_layer_from",
 }
 
 SEED = 20261202
@@ -1200,6 +1202,34 @@ def failure_properties(host, props, layers):
                             + ("" if before[1] == after[1] else "; answers changed"),
                             lambda s=s, target=target: _failure_repro(name, target, feats, s))
                 # Restore for the next case: rebuild the layer as generated.
+                c.execute("SELECT ambit_layer_drop(?)", (target,))
+                if not fresh:
+                    c.execute("SELECT ambit_layer(?, g, reach, fid) FROM feat WHERE layer = ? ORDER BY fid", (name, name))
+                # The same rows through ambit_layer_from, which runs the
+                # query itself and so sees every error of it, SQLite's own
+                # and a progress handler's abort included.
+                inner = f"SELECT g, r, f FROM ({source})".replace("'", "''")
+                s = f"SELECT ambit_layer_from('{target}', '{inner}')"
+                before = snapshot(host, target, probes)
+                calls = [0]
+                if kind == "interrupted":
+                    def handler():
+                        calls[0] += 1
+                        return 1 if calls[0] > 20 else 0
+                    c.set_progress_handler(handler, 200)
+                try:
+                    c.execute(s).fetchall()
+                    raised = None
+                except sqlite3.Error as e:
+                    raised = str(e)
+                finally:
+                    c.set_progress_handler(None, 0)
+                after = snapshot(host, target, probes)
+                props.check("layer_from_errors_and_leaves_layer_unchanged",
+                            raised is not None and before == after, tag,
+                            f"error {raised!r}; ambit_layers before {before[0]}, after {after[0]}"
+                            + ("" if before[1] == after[1] else "; answers changed"),
+                            lambda s=s, target=target: _failure_repro(name, target, feats, s))
                 c.execute("SELECT ambit_layer_drop(?)", (target,))
                 if not fresh:
                     c.execute("SELECT ambit_layer(?, g, reach, fid) FROM feat WHERE layer = ? ORDER BY fid", (name, name))
