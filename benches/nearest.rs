@@ -15,8 +15,10 @@
 //! - blocks just outside the 400,000-vertex polygon: the reach test at
 //!   half a mile and the nearest distance;
 //! - a block 600-900 km from a layer of 100,000 points;
-//! - the layer's bytes per vertex (`Layer::bytes`, as ambit_layers
-//!   reports) for the parks, the points and a 1,000,000-vertex polygon, and the
+//! - the layer's bytes per vertex and per feature (`Layer::bytes`, as
+//!   ambit_layers reports) for the parks, the points and a
+//!   1,000,000-vertex polygon, with where they go (coordinates, element
+//!   balls, ball trees, per-feature parts, the layer's index), and the
 //!   growth of resident memory while the latter was built.
 
 use std::time::Instant;
@@ -70,11 +72,35 @@ fn time_nearest(name: &str, layer: &Layer, blocks: &[Prepared], cap: Option<f64>
 }
 
 fn per_vertex(name: &str, layer: &Layer) {
+    let (vertices, features) = (layer.vertices() as f64, layer.features().len() as f64);
     println!(
-        "  {name}: {} vertices, {} bytes, {:.1} bytes per vertex",
+        "  {name}: {} vertices, {} bytes, {:.1} bytes per vertex, {:.0} bytes per feature",
         layer.vertices(),
         layer.bytes(),
-        layer.bytes() as f64 / layer.vertices() as f64
+        layer.bytes() as f64 / vertices,
+        layer.bytes() as f64 / features,
+    );
+    // Where the bytes go, per vertex: (lon, lat) pairs, element balls, ball
+    // trees, each feature's fixed part (its value, the boxes and headers of
+    // its arrays, starts of lines and rings), and the layer's index.
+    let (mut coords, mut balls, mut trees, mut features_total) = (0, 0, 0, 0);
+    for f in layer.features() {
+        let g = &f.geometry;
+        coords += (g.points.len() + g.chains().map(<[_]>::len).sum::<usize>()) * 16;
+        balls += std::mem::size_of_val(&*g.balls);
+        trees += g.tree().map_or(0, |t| t.bytes());
+        features_total += f.bytes();
+    }
+    let fixed = features_total - coords - balls - trees;
+    let index = layer.bytes() - features_total;
+    let per = |b: usize| b as f64 / vertices;
+    println!(
+        "    per vertex: coordinates {:.1}, element balls {:.1}, ball trees {:.1}, per-feature parts {:.1}, layer index and ids {:.1}",
+        per(coords),
+        per(balls),
+        per(trees),
+        per(fixed),
+        per(index)
     );
 }
 

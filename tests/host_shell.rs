@@ -35,6 +35,7 @@ const FUNCTIONS: &[&str] = &[
     "ambit_area",
     "ambit_length",
     "ambit_layer",
+    "ambit_layer_from",
     "ambit_layer_drop",
     "ambit_reached",
     "ambit_nearest",
@@ -75,6 +76,7 @@ fn registers_the_vocabulary_deterministic_where_it_is() {
                 *f,
                 "ambit_info"
                     | "ambit_layer"
+                    | "ambit_layer_from"
                     | "ambit_layer_drop"
                     | "ambit_reached"
                     | "ambit_nearest"

@@ -89,8 +89,8 @@ fn prepare(text: &str) -> Prepared {
 }
 
 fn all_vertices(p: &Prepared) -> Vec<LonLat> {
-    let mut v = p.points.clone();
-    for chain in p.lines.iter().chain(p.polygons.iter().flatten()) {
+    let mut v = p.points.to_vec();
+    for chain in p.chains() {
         v.extend_from_slice(chain);
     }
     v
@@ -100,7 +100,7 @@ fn brute_distance(a: &Prepared, b: &Prepared) -> f64 {
     let inside = |x: &Prepared, y: &Prepared| {
         all_vertices(x)
             .iter()
-            .any(|&p| y.polygons.iter().any(|rings| point_in_polygon(p, rings)))
+            .any(|&p| y.polygons().iter().any(|rings| point_in_polygon(p, rings)))
     };
     if inside(a, b) || inside(b, a) {
         return 0.0;

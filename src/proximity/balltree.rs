@@ -8,14 +8,24 @@
 //! are in [`Prepared::balls`]). Consecutive edges of a line or ring lie
 //! next to each other, so runs make small balls; a run that spans two
 //! rings, or isolated points in no particular order, only makes a larger
-//! ball (weaker pruning, never a wrong answer). About 7 bytes per element.
+//! ball (weaker pruning, never a wrong answer).
 //!
 //! Every ball encloses its run: a group's centre is the centre of its
-//! middle child and its radius the largest `arc_upper(centre, child centre)
-//! + child radius` (an upper bound on the geodesic distance from the centre
-//! to any point of the child, by the triangle inequality; see
-//! [`Ball::edge_from`] for `arc_upper`). Radii above
-//! [`MAX_BALL_RADIUS`] are infinite (no pruning).
+//! middle child (so, down the levels, that of one element, whose (lon, lat)
+//! is derived from its vertices) and its stored radius bounds the geodesic
+//! distance from that centre, and the straight distance from the stored
+//! (f32) centre, to every point of its elements ([`BallCore`]'s two
+//! enclosures). With C the true centre and X the stored one
+//! (|C - X| <= [`CENTRE_SHIFT`]), each child's true centre within
+//! [`CENTRE_SHIFT`] of its stored one, and every child enclosing its
+//! points both ways: the geodesic radius
+//! `r = max(arc_upper(X, child X, slack 2 CENTRE_SHIFT) + child radius)`
+//! bounds d(C, x) for every point x (triangle inequality; `arc_upper`
+//! bounds the geodesic by the chord, see [`Ball::edge_from`]), and
+//! |X - x| <= |X - C| + d(C, x) <= r + [`CENTRE_SHIFT`], which rounded up
+//! to f32 is the stored radius. Radii above [`MAX_BALL_RADIUS`] are
+//! infinite (no pruning). Groups are stored as [`BallCore`]s, 16 bytes
+//! per run of 8 (about 2.3 bytes per element).
 //!
 //! Lower bounds between two balls: the chord gap ([`Ball::gap`]) is cheap
 //! but falls short of the geodesic distance by about `c^3 / (24 R^2)` (0.13 m
@@ -31,7 +41,7 @@ use crate::interrupt::Interrupt;
 use crate::memory;
 use crate::proximity::boxes::LonLatBox;
 use crate::proximity::prepared::{
-    arc_upper, chord_lower, Ball, BallCore, Prepared, MAX_BALL_RADIUS,
+    arc_upper_within, chord_lower, f32_up, Ball, BallCore, Prepared, CENTRE_SHIFT, MAX_BALL_RADIUS,
 };
 
 /// Children per group.
@@ -57,66 +67,70 @@ pub struct Node {
 /// The hierarchy (see the module doc).
 #[derive(Clone, Debug, Default)]
 pub struct BallTree {
-    /// `levels[k]` holds the balls of level `k + 1`.
-    levels: Vec<Vec<Ball>>,
-    elements: usize,
+    /// The groups' balls: level 1, then level 2, ..., the root last.
+    groups: Vec<BallCore>,
+    /// Elements below (level 0).
+    elements: u32,
+    /// The root's level (0 for one element or none).
+    height: u8,
 }
 
 impl BallTree {
+    /// The tree of a geometry of one element (no groups: the root is the
+    /// element).
+    pub const ONE_ELEMENT: BallTree = BallTree {
+        groups: Vec::new(),
+        elements: 1,
+        height: 0,
+    };
+
     /// The tree over the elements of `g` (empty for no elements). Asks
-    /// `stop` every few thousand groups; arrays are allocated fallibly.
+    /// `stop` every few thousand groups; its array is allocated fallibly.
     pub fn build(g: &Prepared, stop: &dyn Interrupt) -> Result<BallTree, GeomError> {
         let count = g.element_count();
-        let mut levels: Vec<Vec<Ball>> = Vec::new();
-        if count <= 1 {
-            // No groups: the root is the element itself (a point feature
-            // keeps no copy of its ball).
-            return Ok(BallTree {
-                levels,
-                elements: count,
-            });
+        // Over 4 billion elements (64 GB of balls) are not indexed.
+        let elements = u32::try_from(count).map_err(|_| GeomError::OutOfMemory {
+            bytes: count.saturating_mul(std::mem::size_of::<BallCore>()),
+        })?;
+        let (mut total, mut n, mut height) = (0usize, count, 0u8);
+        while n > 1 {
+            n = n.div_ceil(FAN);
+            total += n;
+            height += 1;
         }
-        let mut below: Vec<Ball> = Vec::new();
-        let mut first = true;
-        loop {
-            let children: &[Ball] = if first { &[] } else { &below };
-            let n = if first { count } else { children.len() };
-            let groups = n.div_ceil(FAN);
-            let mut level: Vec<Ball> = memory::vec_with_capacity(groups)?;
-            for at in 0..groups {
+        // No groups for one element: the root is the element itself (a
+        // point feature keeps no copy of its ball).
+        let mut groups: Vec<BallCore> = memory::vec_with_capacity(total)?;
+        let (mut below_start, mut below_len) = (0usize, count);
+        for level in 1..=height {
+            let n = below_len.div_ceil(FAN);
+            let start = groups.len();
+            for at in 0..n {
                 if at % CHECK_EVERY == CHECK_EVERY - 1 {
                     stop.check()?;
                 }
-                let range = at * FAN..((at + 1) * FAN).min(n);
-                level.push(if first {
-                    let mut run = [Ball {
-                        centre: (0.0, 0.0),
-                        radius: 0.0,
-                        xyz: [0.0; 3],
-                    }; FAN];
-                    let len = range.len();
-                    for (slot, k) in run.iter_mut().zip(range) {
-                        *slot = g.ball(k);
-                    }
-                    group(&run[..len])
-                } else {
-                    group(&children[range])
-                });
+                let range = at * FAN..((at + 1) * FAN).min(below_len);
+                let mut run = [BallCore {
+                    xyz: [0.0; 3],
+                    radius: 0.0,
+                }; FAN];
+                let len = range.len();
+                for (slot, k) in run.iter_mut().zip(range) {
+                    *slot = if level == 1 {
+                        g.balls[k]
+                    } else {
+                        groups[below_start + k]
+                    };
+                }
+                groups.push(group(&run[..len]));
             }
-            first = false;
-            if !below.is_empty() {
-                levels.push(std::mem::take(&mut below));
-            }
-            if level.len() == 1 {
-                levels.push(level);
-                levels.shrink_to_fit();
-                break;
-            }
-            below = level;
+            below_start = start;
+            below_len = n;
         }
         Ok(BallTree {
-            levels,
-            elements: count,
+            groups,
+            elements,
+            height,
         })
     }
 
@@ -124,9 +138,42 @@ impl BallTree {
     /// itself, at level 0, for one).
     pub fn root(&self) -> Option<Node> {
         (self.elements > 0).then_some(Node {
-            level: self.levels.len() as u8,
+            level: self.height,
             index: 0,
         })
+    }
+
+    /// How many nodes level `level` has.
+    #[inline]
+    fn level_len(&self, level: u8) -> usize {
+        let mut n = self.elements as usize;
+        for _ in 0..level {
+            n = n.div_ceil(FAN);
+        }
+        n
+    }
+
+    /// Where level `level` (1 or more) begins in `groups`.
+    #[inline]
+    fn level_start(&self, level: u8) -> usize {
+        let (mut n, mut start) = (self.elements as usize, 0);
+        for _ in 1..level {
+            n = n.div_ceil(FAN);
+            start += n;
+        }
+        start
+    }
+
+    /// The element whose centre is `node`'s centre (the middle child's,
+    /// level by level down).
+    fn centre_element(&self, node: Node) -> usize {
+        let mut index = node.index as usize;
+        for level in (0..node.level).rev() {
+            let start = index * FAN;
+            let end = (start + FAN).min(self.level_len(level));
+            index = start + (end - start) / 2;
+        }
+        index
     }
 
     /// The ball of `node`; `g` is the geometry the tree was built over.
@@ -135,34 +182,30 @@ impl BallTree {
         if node.level == 0 {
             g.ball(node.index as usize)
         } else {
-            self.levels[node.level as usize - 1][node.index as usize]
+            let core = self.core(node, g);
+            core.with_centre(g.ball_centre(self.centre_element(node)))
         }
     }
 
-    /// The centre's Earth-centred coordinates and the radius of `node`'s
-    /// ball (what [`Ball::gap`] needs, without deriving an element's
-    /// (lon, lat) centre).
+    /// The stored centre and radius of `node`'s ball (what
+    /// [`BallCore::gap`] needs, without deriving a (lon, lat) centre).
     #[inline]
     pub fn core(&self, node: Node, g: &Prepared) -> BallCore {
         if node.level == 0 {
             g.balls[node.index as usize]
         } else {
-            self.levels[node.level as usize - 1][node.index as usize].core()
+            self.groups[self.level_start(node.level) + node.index as usize]
         }
     }
 
     /// The children of a group node (nothing for an element).
     pub fn children(&self, node: Node) -> impl Iterator<Item = Node> {
-        let (level, len) = match node.level {
-            0 => (0, 0),
-            1 => (0, self.elements),
-            k => (k - 1, self.levels[k as usize - 2].len()),
-        };
+        let level = node.level.saturating_sub(1);
         let start = node.index as usize * FAN;
         let end = if node.level == 0 {
             start
         } else {
-            (start + FAN).min(len)
+            (start + FAN).min(self.level_len(level))
         };
         (start..end).map(move |k| Node {
             level,
@@ -202,35 +245,32 @@ impl BallTree {
 
     /// Bytes held (for memory reports).
     pub fn bytes(&self) -> usize {
-        self.levels
-            .iter()
-            .map(|l| l.capacity() * std::mem::size_of::<Ball>())
-            .sum::<usize>()
-            + self.levels.capacity() * std::mem::size_of::<Vec<Ball>>()
-            + std::mem::size_of::<BallTree>()
+        self.groups.capacity() * std::mem::size_of::<BallCore>()
     }
 
     /// An estimate of [`BallTree::bytes`] for `n` elements, rounded up.
     pub fn estimated_bytes(n: usize) -> usize {
-        (n / (FAN - 1) + 2).saturating_mul(std::mem::size_of::<Ball>())
+        (n / (FAN - 1) + 2).saturating_mul(std::mem::size_of::<BallCore>())
     }
 }
 
-/// The ball around a run of balls (module doc).
-fn group(children: &[Ball]) -> Ball {
+/// The stored ball around a run of stored balls (module doc): centred on
+/// the middle one.
+fn group(children: &[BallCore]) -> BallCore {
     let mid = children[children.len() / 2];
+    let centre = mid.centre();
     let mut radius = 0.0f64;
     for c in children {
-        radius = radius.max(arc_upper(&mid.xyz, &c.xyz) + c.radius);
+        radius = radius
+            .max(arc_upper_within(&centre, &c.centre(), 2.0 * CENTRE_SHIFT) + f64::from(c.radius));
     }
-    Ball {
-        centre: mid.centre,
-        radius: if radius > MAX_BALL_RADIUS || radius.is_nan() {
-            f64::INFINITY
-        } else {
-            radius
-        },
+    BallCore {
         xyz: mid.xyz,
+        radius: if radius > MAX_BALL_RADIUS || radius.is_nan() {
+            f32::INFINITY
+        } else {
+            f32_up(radius + CENTRE_SHIFT)
+        },
     }
 }
 
@@ -253,8 +293,8 @@ pub fn tight_gap(a: &Ball, b: &Ball, chord_gap: f64) -> f64 {
 
 /// An axis-aligned box in Earth-centred coordinates (metres: min x, y, z,
 /// then max x, y, z) holding every point of the elements: each element's
-/// ball centre grown by its radius (a chord never exceeds the geodesic),
-/// rounded outward by 1 mm. A whole-Earth box when some radius is infinite;
+/// stored centre grown by its radius (which bounds the straight distance
+/// from that centre, see [`BallCore`]), rounded outward by 1 mm. A whole-Earth box when some radius is infinite;
 /// `None` for no elements.
 pub fn space_box(elements: &[BallCore]) -> Option<[f64; 6]> {
     if elements.is_empty() {
@@ -273,9 +313,10 @@ pub fn space_box(elements: &[BallCore]) -> Option<[f64; 6]> {
         if !ball.radius.is_finite() {
             return Some([-whole, -whole, -whole, whole, whole, whole]);
         }
+        let (xyz, radius) = (ball.centre(), f64::from(ball.radius));
         for k in 0..3 {
-            b[k] = b[k].min(ball.xyz[k] - ball.radius);
-            b[k + 3] = b[k + 3].max(ball.xyz[k] + ball.radius);
+            b[k] = b[k].min(xyz[k] - radius);
+            b[k + 3] = b[k + 3].max(xyz[k] + radius);
         }
     }
     for k in 0..3 {
@@ -301,14 +342,20 @@ mod tests {
         let root = tree.root().unwrap();
         assert_eq!(root, Node { level: 0, index: 0 });
         assert_eq!(tree.children(root).count(), 0);
-        assert_eq!(tree.ball(root, &p), Ball::point((-131.2, 38.9)));
-        assert_eq!(tree.levels.len(), 0);
+        let point = Ball::point((-131.2, 38.9));
+        assert_eq!(
+            tree.ball(root, &p),
+            BallCore::enclosing(&point).with_centre(point.centre)
+        );
+        assert!(tree.groups.is_empty());
         let empty = Prepared::new(&wkt::parse("POINT EMPTY").unwrap());
         assert_eq!(BallTree::build(&empty, &Never).unwrap().root(), None);
     }
 
     /// Every element's ball lies inside each of its ancestors' balls
-    /// (brute force over the tree, by the chord upper bound).
+    /// (brute force over the tree, by the chord upper bound with both
+    /// stored centres' shifts), and every ball's (lon, lat) centre is its
+    /// stored centre to within the shift.
     #[test]
     fn every_group_encloses_its_elements() {
         let ring: Vec<String> = (0..=1000)
@@ -327,9 +374,12 @@ mod tests {
             if node.level == 0 {
                 seen += 1;
                 for a in &ancestors {
-                    assert!(arc_upper(&a.xyz, &ball.xyz) + ball.radius <= a.radius * (1.0 + 1e-12));
+                    let reach = arc_upper_within(&a.xyz, &ball.xyz, 2.0 * CENTRE_SHIFT);
+                    assert!(reach + ball.radius <= a.radius * (1.0 + 1e-12));
                 }
             }
+            let on_surface = crate::proximity::prepared::ecef(ball.centre);
+            assert!(chord_lower(&on_surface, &ball.xyz) <= CENTRE_SHIFT);
             let mut next = ancestors.clone();
             next.push(ball);
             for c in tree.children(node) {

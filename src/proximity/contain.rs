@@ -44,10 +44,10 @@ const CHORD_MAX_LATITUDE: f64 = 85.0;
 
 /// True when `p` lies inside the polygon given by its rings (the first the
 /// exterior, the rest holes); a point in a hole is outside.
-pub fn point_in_polygon(p: LonLat, rings: &[Vec<LonLat>]) -> bool {
+pub fn point_in_polygon(p: LonLat, rings: &[impl AsRef<[LonLat]>]) -> bool {
     let mut inside = false;
     for ring in rings {
-        if point_in_ring(p, ring) {
+        if point_in_ring(p, ring.as_ref()) {
             inside = !inside;
         }
     }
@@ -91,29 +91,31 @@ pub fn meridian_crosses(p: LonLat, a: LonLat, b: LonLat) -> bool {
 /// (only the edges whose boxes meet the northward meridian from `p` are
 /// tested when `g` has an element index).
 pub fn point_in_prepared(p: LonLat, g: &Prepared) -> bool {
-    if g.polygons.is_empty() {
+    if g.polygons().is_empty() {
         return false;
     }
+    // The rings in order with their pole flags, polygon by polygon.
+    let mut rings = g.rings();
     if !g.indexed() {
         // Small geometries: walk the rings directly, allocating nothing.
-        return g
-            .polygons
-            .iter()
-            .zip(&g.north_pole_rings)
-            .any(|(rings, flags)| {
-                rings
-                    .iter()
-                    .zip(flags)
-                    .fold(false, |inside, (ring, &pole)| {
-                        let crossings = ring
-                            .windows(2)
-                            .filter(|w| meridian_crosses(p, w[0], w[1]))
-                            .count();
-                        inside != ((crossings % 2 == 1) != pole)
-                    })
-            });
+        return g.polygons().iter().any(|polygon| {
+            rings
+                .by_ref()
+                .take(polygon.len())
+                .fold(false, |inside, (ring, pole)| {
+                    let crossings = ring
+                        .windows(2)
+                        .filter(|w| meridian_crosses(p, w[0], w[1]))
+                        .count();
+                    inside != ((crossings % 2 == 1) != pole)
+                })
+        });
     }
-    let mut parity: Vec<Vec<bool>> = g.north_pole_rings.clone();
+    let mut parity: Vec<Vec<bool>> = g
+        .polygons()
+        .iter()
+        .map(|polygon| rings.by_ref().take(polygon.len()).map(|r| r.1).collect())
+        .collect();
     let ray = LonLatBox {
         lon_lo: p.0,
         lon_hi: p.0,

@@ -29,10 +29,12 @@ use std::ops::ControlFlow;
 use crate::error::GeomError;
 use crate::geodesy::{inverse, local, segment};
 use crate::interrupt::{Interrupt, Never};
-use crate::proximity::balltree::{tight_gap, BallTree, Node};
+use crate::proximity::balltree::{tight_gap, BallTree, Node, TIGHT_FROM};
 use crate::proximity::boxes::LonLatBox;
 use crate::proximity::contain::point_in_prepared;
-use crate::proximity::prepared::{arc_upper, distance_upper, Ball, Element, LonLat, Prepared};
+use crate::proximity::prepared::{
+    arc_upper_within, chord_lower, distance_upper, Ball, Element, LonLat, Prepared, CENTRE_SHIFT,
+};
 
 /// How a within test was decided, for measuring the fast path.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
@@ -101,7 +103,7 @@ fn vertices(e: &Element) -> &[LonLat] {
 /// True when some part of `a` lies inside a polygon of `b`, judged from the
 /// probes of `a`.
 fn probes_inside(a: &Prepared, b: &Prepared, work: &mut Work) -> bool {
-    if b.polygons.is_empty() {
+    if b.polygons().is_empty() {
         return false;
     }
     a.probes().any(|p| {
@@ -120,7 +122,7 @@ fn elements_near(x: &Prepared, other: &Ball, cap: f64) -> Vec<usize> {
         (0..x.element_count()).collect()
     };
     near.into_iter()
-        .filter(|&i| x.balls[i].gap(&other.core()) <= cap)
+        .filter(|&i| x.balls[i].gap_to(other) <= cap)
         .collect()
 }
 
@@ -179,7 +181,7 @@ fn quick_upper(a: &Prepared, b: &Prepared) -> f64 {
         let step = if x.element_count() > 512 { 16 } else { 1 };
         (0..x.element_count()).step_by(step).min_by(|&i, &j| {
             let d = |k: usize| {
-                let c = &x.balls[k].xyz;
+                let c = x.balls[k].centre();
                 (c[0] - target[0]).powi(2) + (c[1] - target[1]).powi(2) + (c[2] - target[2]).powi(2)
             };
             d(i).total_cmp(&d(j))
@@ -189,11 +191,14 @@ fn quick_upper(a: &Prepared, b: &Prepared) -> f64 {
         return f64::INFINITY;
     };
     let ea = &a.balls[i];
-    let Some(j) = nearest_to(b, &ea.xyz) else {
+    let Some(j) = nearest_to(b, &ea.centre()) else {
         return f64::INFINITY;
     };
     let eb = &b.balls[j];
-    arc_upper(&ea.xyz, &eb.xyz) + ea.radius + eb.radius
+    // Both stored centres are within CENTRE_SHIFT of the true ones.
+    arc_upper_within(&ea.centre(), &eb.centre(), 2.0 * CENTRE_SHIFT)
+        + f64::from(ea.radius)
+        + f64::from(eb.radius)
 }
 
 /// The answers the two geometries' bounding balls give before any
@@ -372,7 +377,7 @@ pub fn nearest_between(
         return Ok(f64::INFINITY);
     };
     let mut queue = std::collections::BinaryHeap::new();
-    let key = ta.ball(root_a, a).gap(&tb.ball(root_b, b));
+    let key = ta.core(root_a, a).gap(&tb.core(root_b, b));
     queue.push(Pending {
         key,
         tight: false,
@@ -392,9 +397,16 @@ pub fn nearest_between(
             pops = 0;
             stop.check()?;
         }
-        let (ba, bb) = (ta.ball(item.a, a), tb.ball(item.b, b));
+        let (ba, bb) = (ta.core(item.a, a), tb.core(item.b, b));
         if !item.tight {
-            let key = tight_gap(&ba, &bb, item.key);
+            // The (lon, lat) centres are derived only where tight_gap asks
+            // Karney's inverse.
+            let far = item.key.is_finite() && chord_lower(&ba.centre(), &bb.centre()) >= TIGHT_FROM;
+            let key = if far {
+                tight_gap(&ta.ball(item.a, a), &tb.ball(item.b, b), item.key)
+            } else {
+                item.key
+            };
             if key > bound {
                 continue;
             }
@@ -427,12 +439,15 @@ pub fn nearest_between(
             continue;
         }
         // Any point of one node is within these of any point of the other.
-        upper = upper.min(arc_upper(&ba.xyz, &bb.xyz) + ba.radius + bb.radius);
+        // (Both centres may be stored ones, within CENTRE_SHIFT of the
+        // true centres.)
+        let centres = arc_upper_within(&ba.centre(), &bb.centre(), 2.0 * CENTRE_SHIFT);
+        upper = upper.min(centres + f64::from(ba.radius) + f64::from(bb.radius));
         let split_b = item.a.level == 0 || (item.b.level != 0 && bb.radius >= ba.radius);
         let bound = best_exact.min(upper).min(cap);
         if split_b {
             for c in tb.children(item.b) {
-                let key = ba.core().gap(&tb.core(c, b));
+                let key = ba.gap(&tb.core(c, b));
                 if key <= bound {
                     queue.push(Pending {
                         key,
@@ -444,7 +459,7 @@ pub fn nearest_between(
             }
         } else {
             for c in ta.children(item.a) {
-                let key = ta.core(c, a).gap(&bb.core());
+                let key = ta.core(c, a).gap(&bb);
                 if key <= bound {
                     queue.push(Pending {
                         key,

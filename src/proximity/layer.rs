@@ -24,7 +24,7 @@ use crate::proximity::boxes::LonLatBox;
 use crate::proximity::distance::{
     distance_within, distance_within_interruptible, nearest_between, within, within_interruptible,
 };
-use crate::proximity::prepared::{tree_bytes, wrap_delta, Ball, Prepared};
+use crate::proximity::prepared::{f32_up, tree_bytes, wrap_delta, Ball, Prepared};
 use crate::proximity::share::{coverage_share, ShareError};
 
 /// Features indexed between two interrupt checks.
@@ -65,7 +65,6 @@ impl Feature {
     ) -> Result<Feature, GeomError> {
         let mut geometry = Prepared::build(g, stop)?;
         geometry.add_ball_tree(stop)?;
-        geometry.shrink_to_fit();
         Ok(Feature {
             id,
             reach,
@@ -74,34 +73,36 @@ impl Feature {
         })
     }
 
-    /// Memory held by the feature, bytes (approximate, for ambit_layers).
+    /// Memory held by the feature, bytes (the sizes of its arrays and
+    /// values; for ambit_layers).
     pub fn bytes(&self) -> usize {
-        let g = &self.geometry;
-        std::mem::size_of::<Feature>()
-            + g.balls.capacity() * std::mem::size_of::<crate::proximity::prepared::BallCore>()
-            + g.line_starts.capacity() * std::mem::size_of::<u32>()
-            + g.ring_starts.capacity()
-                * std::mem::size_of::<(u32, crate::proximity::prepared::RingRef)>()
-            + g.points.capacity() * std::mem::size_of::<crate::proximity::prepared::LonLat>()
-            + g.lines
-                .iter()
-                .chain(g.polygons.iter().flatten())
-                .map(|c| {
-                    c.capacity() * std::mem::size_of::<crate::proximity::prepared::LonLat>()
-                        + std::mem::size_of::<Vec<crate::proximity::prepared::LonLat>>()
-                })
-                .sum::<usize>()
-            + (g.lines.capacity() + g.polygons.capacity() + g.north_pole_rings.capacity())
-                * std::mem::size_of::<Vec<()>>()
-            + g.north_pole_rings
-                .iter()
-                .map(|flags| flags.capacity())
-                .sum::<usize>()
-            + g.tree.as_ref().map_or(0, BallTree::bytes)
+        std::mem::size_of::<Feature>() - std::mem::size_of::<Prepared>() + self.geometry.bytes()
     }
 }
 
-type Entry = GeomWithData<Rectangle<[f64; 2]>, u32>;
+/// An entry of the reach index: a feature's reach-grown box in degrees,
+/// rounded outward to f32 ([`outward`]; 48 bytes per entry in the tree
+/// instead of 67), and its position.
+type Entry = GeomWithData<Rectangle<[f32; 2]>, u32>;
+
+/// `b` rounded outward to f32: every point of `b` lies in the result, so
+/// an entry and a query rounded so meet whenever the boxes they came from
+/// do (the index still never loses a candidate; it may offer a feature a
+/// few metres farther, which the exact test then refuses).
+fn outward(b: &rstar::AABB<[f64; 2]>) -> rstar::AABB<[f32; 2]> {
+    let (lo, hi) = (b.lower(), b.upper());
+    let down = |x: f64| -f32_up(-x);
+    rstar::AABB::from_corners([down(lo[0]), down(lo[1])], [f32_up(hi[0]), f32_up(hi[1])])
+}
+
+/// Bytes an R*-tree of `n` entries holds once built: every entry sits in
+/// its parent's array as a node (rstar's `RTreeNode`, as large as the
+/// larger of an entry and a parent), and the parents, at most 6 children
+/// each (rstar's default parameters) and bulk loaded full, add at most a
+/// fifth as many nodes again.
+fn rtree_bytes<T: rstar::RTreeObject>(n: usize) -> usize {
+    n.saturating_mul(std::mem::size_of::<rstar::RTreeNode<T>>()) / 5 * 6
+}
 
 /// An entry of the nearest-search index: a feature's box in Earth-centred
 /// coordinates ([`space_box`]) and its position.
@@ -206,17 +207,17 @@ impl ExtentSum {
     /// line and ring (consecutive vertices less than 180 degrees apart, as
     /// geodesic edges are), parts placed near the feature's first vertex.
     fn add(&mut self, g: &Prepared) {
-        let chains = g.lines.iter().chain(g.polygons.iter().flatten());
+        let chains = g.chains();
         let Some(first) = g
             .points
             .first()
-            .or_else(|| chains.clone().flat_map(|c| c.first()).next())
+            .or_else(|| g.chains().flat_map(|c| c.first()).next())
         else {
             return;
         };
         let (mut lo, mut hi) = (0.0f64, 0.0f64);
         let (mut south, mut north) = (first.1, first.1);
-        for p in &g.points {
+        for p in g.points.iter() {
             let x = wrap_delta(first.0, p.0);
             lo = lo.min(x);
             hi = hi.max(x);
@@ -433,11 +434,14 @@ impl Layer {
                     i as u32,
                 ));
             }
-            let Some(b) = f.geometry.bbox else { continue };
+            let Some(b) = f.geometry.bbox() else { continue };
             with_box += 1;
             for r in b.grown(f.reach).normalised() {
                 memory::reserve_one(&mut entries)?;
-                entries.push(GeomWithData::new(Rectangle::from_aabb(r), i as u32));
+                entries.push(GeomWithData::new(
+                    Rectangle::from_aabb(outward(&r)),
+                    i as u32,
+                ));
             }
         }
         stop.check()?;
@@ -461,7 +465,7 @@ impl Layer {
     pub fn assemble(index: LayerIndex, mut features: Vec<Feature>) -> Layer {
         debug_assert_eq!(index.len, features.len());
         for f in &mut features {
-            if f.geometry.tree.is_none() {
+            if f.geometry.tree().is_none() {
                 f.geometry
                     .add_ball_tree(&Never)
                     .unwrap_or_else(|e| panic!("indexing a feature: {e}"));
@@ -513,11 +517,15 @@ impl Layer {
         self.features.iter().map(|f| f.vertices).sum()
     }
 
-    /// Memory held by the layer, bytes (approximate).
+    /// Memory held by the layer, bytes: its features ([`Feature::bytes`]),
+    /// the two R*-trees ([`rtree_bytes`]) and the sorted ids (what
+    /// ambit_layers reports; the allocator's own bookkeeping, a few bytes
+    /// per allocation, is not counted).
     pub fn bytes(&self) -> usize {
         self.features.iter().map(Feature::bytes).sum::<usize>()
-            + self.tree.size() * 48
-            + self.space.size() * 64
+            + (self.features.capacity() - self.features.len()) * std::mem::size_of::<Feature>()
+            + rtree_bytes::<Entry>(self.tree.size())
+            + rtree_bytes::<SpaceEntry>(self.space.size())
             + self.ids.capacity() * std::mem::size_of::<i64>()
     }
 
@@ -531,13 +539,15 @@ impl Layer {
     /// the distance) are not counted either.
     pub fn may_reach(&self, b: &LonLatBox, ball: Option<&Ball>) -> bool {
         b.normalised().iter().any(|q| {
-            self.tree.locate_in_envelope_intersecting(*q).any(|e| {
-                match (ball, self.features[e.data as usize].geometry.ball) {
-                    (None, _) => true,
-                    (Some(g), Some(f)) => g.gap(&f) <= self.features[e.data as usize].reach,
-                    (Some(_), None) => false,
-                }
-            })
+            self.tree
+                .locate_in_envelope_intersecting(outward(q))
+                .any(
+                    |e| match (ball, self.features[e.data as usize].geometry.ball) {
+                        (None, _) => true,
+                        (Some(g), Some(f)) => g.gap(&f) <= self.features[e.data as usize].reach,
+                        (Some(_), None) => false,
+                    },
+                )
         })
     }
 
@@ -549,7 +559,7 @@ impl Layer {
         let (parts, n) = b.normalised_parts();
         parts.into_iter().take(n).flat_map(move |q| {
             self.tree
-                .locate_in_envelope_intersecting(q)
+                .locate_in_envelope_intersecting(outward(&q))
                 .map(|e| e.data as usize)
         })
     }
@@ -558,13 +568,13 @@ impl Layer {
     /// in the order they were added. A feature within `grow_m` metres of
     /// `g`, or within its own reach of `g`, is always among them.
     fn candidates(&self, g: &Prepared, grow_m: f64) -> Vec<usize> {
-        let Some(b) = g.bbox else {
+        let Some(b) = g.bbox() else {
             return Vec::new();
         };
         let queries = b.grown(grow_m).normalised();
         let mut found: Vec<usize> = queries
             .iter()
-            .flat_map(|q| self.tree.locate_in_envelope_intersecting(*q))
+            .flat_map(|q| self.tree.locate_in_envelope_intersecting(outward(q)))
             .map(|e| e.data as usize)
             .collect();
         // Sorted, so answers follow the order features were added; a
@@ -761,7 +771,7 @@ impl Layer {
                 continue;
             }
             let f = &self.features[i].geometry;
-            let Some(ft) = &f.tree else { continue };
+            let Some(ft) = f.tree() else { continue };
             // A small feature nearby: the pairwise search of
             // distance_within is cheapest; a large or far one (where the
             // chord bounds are loose): the best-first search.
@@ -770,7 +780,7 @@ impl Layer {
             let d = if near_and_small {
                 distance_within_interruptible(g, f, cap, stop)?.unwrap_or(f64::INFINITY)
             } else {
-                let tree = match (&g.tree, &mut own) {
+                let tree = match (g.tree(), &mut own) {
                     (Some(t), _) => t,
                     (None, Some(t)) => &*t,
                     (None, slot) => &*slot.insert(BallTree::build(g, stop)?),

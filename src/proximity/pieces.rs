@@ -14,7 +14,7 @@
 //! points strays from the geodesic by centimetres. Longitudes are unwrapped
 //! along each ring (so rings across the antimeridian stay whole); a ring
 //! whose longitudes wind a full turn encloses a pole (the one
-//! [`Prepared::north_pole_rings`] says, else the south pole) and is closed
+//! [`Prepared::rings`] says, else the south pole) and is closed
 //! through that pole. Rings are then clipped by the grid lines, each ring
 //! against each half-plane (Sutherland and Hodgman, "Reentrant polygon
 //! clipping", CACM 17(1), 1974), which keeps the even-odd rule: a point of
@@ -55,44 +55,42 @@ pub fn lonlat_rings(g: &Prepared, stop: &dyn Interrupt) -> Result<Vec<Vec<LonLat
     let mut out = Vec::new();
     let mut reference: Option<f64> = None;
     let mut since_check = 0usize;
-    for (rings, flags) in g.polygons.iter().zip(&g.north_pole_rings) {
-        for (ring, &north) in rings.iter().zip(flags) {
-            if ring.len() < 3 {
-                continue;
-            }
-            let start = ring[0].0;
-            let start = match reference {
-                None => {
-                    reference = Some(start);
-                    start
-                }
-                Some(r) => r + wrap_delta(r, start),
-            };
-            let mut pts: Vec<LonLat> = vec![(start, ring[0].1)];
-            let mut lon = start;
-            for w in ring.windows(2) {
-                since_check += 1;
-                if since_check >= 4096 {
-                    since_check = 0;
-                    stop.check()?;
-                }
-                let (a, b) = (w[0], w[1]);
-                for p in densified(a, b) {
-                    lon += wrap_delta(lon, p.0);
-                    pts.push((lon, p.1));
-                }
-            }
-            let winding = lon - start;
-            if winding.abs() > 180.0 {
-                let pole = if north { 90.0 } else { -90.0 };
-                pts.push((lon, pole));
-                pts.push((start, pole));
-                pts.push((start, ring[0].1));
-            } else if let Some(last) = pts.last_mut() {
-                *last = (start, ring[0].1);
-            }
-            out.push(pts);
+    for (ring, north) in g.rings() {
+        if ring.len() < 3 {
+            continue;
         }
+        let start = ring[0].0;
+        let start = match reference {
+            None => {
+                reference = Some(start);
+                start
+            }
+            Some(r) => r + wrap_delta(r, start),
+        };
+        let mut pts: Vec<LonLat> = vec![(start, ring[0].1)];
+        let mut lon = start;
+        for w in ring.windows(2) {
+            since_check += 1;
+            if since_check >= 4096 {
+                since_check = 0;
+                stop.check()?;
+            }
+            let (a, b) = (w[0], w[1]);
+            for p in densified(a, b) {
+                lon += wrap_delta(lon, p.0);
+                pts.push((lon, p.1));
+            }
+        }
+        let winding = lon - start;
+        if winding.abs() > 180.0 {
+            let pole = if north { 90.0 } else { -90.0 };
+            pts.push((lon, pole));
+            pts.push((start, pole));
+            pts.push((start, ring[0].1));
+        } else if let Some(last) = pts.last_mut() {
+            *last = (start, ring[0].1);
+        }
+        out.push(pts);
     }
     Ok(out)
 }
@@ -291,7 +289,7 @@ mod tests {
         for (lon, lat, h) in [(10.0, 45.0, 1.0), (179.5, -20.0, 0.7), (0.0, 0.0, 3.0)] {
             let g = square(lon, lat, h);
             let whole = crate::geodesy::area::ring_area_perimeter(
-                &g.polygons[0][0]
+                &g.polygons()[0][0]
                     .iter()
                     .flat_map(|p| [p.0, p.1])
                     .collect::<Vec<_>>(),
@@ -303,7 +301,7 @@ mod tests {
             let mut sum = 0.0;
             let mut count = 0;
             for_each_piece(rings, &Never, &mut |p| -> Result<(), GeomError> {
-                let flat: Vec<f64> = p.polygons[0][0].iter().flat_map(|q| [q.0, q.1]).collect();
+                let flat: Vec<f64> = p.polygons()[0][0].iter().flat_map(|q| [q.0, q.1]).collect();
                 sum += crate::geodesy::area::ring_area_perimeter(&flat, 2).0.abs();
                 count += 1;
                 Ok(())

@@ -33,6 +33,12 @@ pub const MAX_BALL_RADIUS: f64 = 2_000_000.0;
 
 /// A centre and a radius (metres) enclosing an element, with the centre's
 /// Earth-centred Cartesian coordinates (metres) for cheap lower bounds.
+///
+/// `xyz` lies within [`CENTRE_SHIFT`] of the Earth-centred point of
+/// `centre` (exactly it, to f64 rounding, for a ball made here; rounded to
+/// f32 for one read back from a [`BallCore`]), and `radius` bounds both the
+/// geodesic distance from `centre` and the straight distance from `xyz` to
+/// every point of the element.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct Ball {
     pub centre: LonLat,
@@ -40,27 +46,123 @@ pub struct Ball {
     pub xyz: [f64; 3],
 }
 
-/// What [`Prepared`] stores of an element's [`Ball`]: its centre's
-/// Earth-centred coordinates and its radius (32 bytes instead of 48).
-/// The centre's (lon, lat) is derived from the element's vertices by
-/// [`Prepared::ball`], with the same arithmetic that made the ball, so the
-/// whole ball comes back bit for bit.
+/// How far (metres) an Earth-centred point of the ellipsoid moves when its
+/// coordinates are rounded to f32: each coordinate's magnitude is below
+/// the equatorial radius 6,378,137 m < 2^23, where consecutive f32 values
+/// are at most 2^-1 m apart, so rounding to nearest moves each coordinate
+/// by at most 0.25 m and the point by at most 0.25 * sqrt(3) = 0.43301 m
+/// (rounded up here).
+pub const CENTRE_SHIFT: f64 = 0.4331;
+
+/// What [`Prepared`] and [`BallTree`] store of a ball (16 bytes instead of
+/// 48): its centre's Earth-centred coordinates rounded to f32 and a
+/// radius rounded outward to f32. The centre's (lon, lat) is derived from
+/// the element's vertices by [`Prepared::ball`] (a group's from its middle
+/// element), with the same arithmetic that made the ball.
+///
+/// Enclosure, for a ball of true centre C (on the ellipsoid; `xyz` in f64
+/// is C up to nanometres, covered by the 1 µm of [`chord_lower`] and
+/// [`arc_upper`]) and true radius r (every point x of the element has
+/// d(C, x) <= r, d the geodesic distance): let X be `xyz` rounded to f32
+/// and s = |C - X|, at most [`CENTRE_SHIFT`]. The stored radius is
+/// R = next_up(f32(r + s)) >= r + s. Then for every point x of the element
+/// (1) d(C, x) <= r <= R: the geodesic bounds from the (lon, lat) centre
+/// ([`crate::proximity::balltree::tight_gap`], [`LonLatBox::around`]) stay
+/// bounds; (2) |X - x| <= |X - C| + |C - x| <= s + d(C, x) <= R (a chord
+/// never exceeds the geodesic): the straight distance from the stored
+/// centre is bounded too. So for two stored balls and points x, y of
+/// their elements, |X1 - X2| <= |X1 - x| + |x - y| + |y - X2|, i.e.
+/// `|X1 - X2| - R1 - R2 <= |x - y| <= d(x, y)`: [`BallCore::gap`],
+/// computed in f64 from the f32 values (exactly representable), is still a
+/// lower bound, and upper bounds from stored centres add
+/// 2 [`CENTRE_SHIFT`] to the chord ([`arc_upper_within`]). Every bound
+/// only prunes: no answer depends on the rounding.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct BallCore {
-    pub xyz: [f64; 3],
-    pub radius: f64,
+    pub xyz: [f32; 3],
+    pub radius: f32,
+}
+
+/// `x` rounded up to an f32 (infinity for NaN: no pruning).
+#[inline]
+pub fn f32_up(x: f64) -> f32 {
+    if x.is_nan() {
+        return f32::INFINITY;
+    }
+    // Rounding to nearest, then one step up, is at least x.
+    (x as f32).next_up()
 }
 
 impl BallCore {
-    /// [`Ball::gap`] between two balls given by their cores (the same
-    /// arithmetic, so the same value).
+    /// The stored form of `ball` (whose `xyz` is its centre's Earth-centred
+    /// point, to f64 rounding): the centre rounded to f32 and the radius
+    /// grown by how far that moved it, rounded up (see the type's doc).
+    pub fn enclosing(ball: &Ball) -> BallCore {
+        let xyz = ball.xyz.map(|v| v as f32);
+        // Each difference is exact (an f64 less its own f32 rounding).
+        let s = (0..3)
+            .map(|k| (ball.xyz[k] - f64::from(xyz[k])).powi(2))
+            .sum::<f64>()
+            .sqrt();
+        BallCore {
+            xyz,
+            radius: if ball.radius.is_infinite() {
+                f32::INFINITY
+            } else {
+                f32_up(ball.radius + s)
+            },
+        }
+    }
+
+    /// The centre's Earth-centred coordinates in f64 (exact).
+    #[inline]
+    pub fn centre(&self) -> [f64; 3] {
+        self.xyz.map(f64::from)
+    }
+
+    /// A lower bound on the distance between any point of the element of
+    /// `self` and any point of that of `other` (see the type's doc);
+    /// negative infinity when either radius is infinite.
     #[inline]
     pub fn gap(&self, other: &BallCore) -> f64 {
-        if self.radius.is_infinite() || other.radius.is_infinite() {
-            return f64::NEG_INFINITY;
-        }
-        chord_lower(&self.xyz, &other.xyz) - self.radius - other.radius
+        gap(
+            &self.centre(),
+            f64::from(self.radius),
+            &other.centre(),
+            f64::from(other.radius),
+        )
     }
+
+    /// [`BallCore::gap`] to a ball given whole.
+    #[inline]
+    pub fn gap_to(&self, other: &Ball) -> f64 {
+        gap(
+            &self.centre(),
+            f64::from(self.radius),
+            &other.xyz,
+            other.radius,
+        )
+    }
+
+    /// The whole ball, with `centre` as its (lon, lat) centre.
+    #[inline]
+    pub fn with_centre(&self, centre: LonLat) -> Ball {
+        Ball {
+            centre,
+            radius: f64::from(self.radius),
+            xyz: self.centre(),
+        }
+    }
+}
+
+/// `chord - r1 - r2`: a lower bound on the distance between any points of
+/// two balls whose radii bound the straight distance from their centres.
+#[inline]
+fn gap(a: &[f64; 3], ra: f64, b: &[f64; 3], rb: f64) -> f64 {
+    if ra.is_infinite() || rb.is_infinite() {
+        return f64::NEG_INFINITY;
+    }
+    chord_lower(a, b) - ra - rb
 }
 
 /// The (lon, lat) centre of the ball of the edge a-b ([`Ball::edge_from`]):
@@ -89,9 +191,17 @@ pub fn ecef(p: LonLat) -> [f64; 3] {
 /// An upper bound on the geodesic distance between two points from their
 /// chord (see [`Ball::edge_from`]); infinite beyond a quarter circumference.
 pub fn arc_upper(a: &[f64; 3], b: &[f64; 3]) -> f64 {
+    arc_upper_within(a, b, 0.0)
+}
+
+/// [`arc_upper`] for points known only to within `slack` metres (the sum
+/// of both points' shifts, e.g. 2 [`CENTRE_SHIFT`] for two stored
+/// centres): the true chord is at most the chord between them plus
+/// `slack`, and the bound grows with the chord.
+pub fn arc_upper_within(a: &[f64; 3], b: &[f64; 3], slack: f64) -> f64 {
     use crate::geodesy::ellipsoid::MIN_MERIDIAN_RADIUS;
     let (dx, dy, dz) = (a[0] - b[0], a[1] - b[1], a[2] - b[2]);
-    let chord = (dx * dx + dy * dy + dz * dz).sqrt();
+    let chord = (dx * dx + dy * dy + dz * dz).sqrt() + slack;
     let x = chord / (2.0 * MIN_MERIDIAN_RADIUS);
     if x >= 0.7 {
         return f64::INFINITY;
@@ -186,16 +296,13 @@ impl Ball {
     /// A lower bound on the distance between any point of `self` and any
     /// point of `other` (may be negative when the balls overlap).
     pub fn gap(&self, other: &Ball) -> f64 {
-        self.core().gap(&other.core())
+        gap(&self.xyz, self.radius, &other.xyz, other.radius)
     }
 
-    /// The ball's Earth-centred centre and radius.
+    /// [`Ball::gap`] to a stored ball.
     #[inline]
-    pub fn core(&self) -> BallCore {
-        BallCore {
-            xyz: self.xyz,
-            radius: self.radius,
-        }
+    pub fn gap_to(&self, other: &BallCore) -> f64 {
+        other.gap_to(self)
     }
 }
 
@@ -217,39 +324,64 @@ pub struct RingRef {
     pub ring: u32,
 }
 
+/// Where a ring's edges begin among the elements, which ring it is, and
+/// whether it encloses the north pole (see [`crate::proximity::contain`]).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct RingStart {
+    pub start: u32,
+    pub ring: RingRef,
+    pub north: bool,
+}
+
+/// A line or a ring: (lon, lat) vertices.
+pub type Chain = Box<[LonLat]>;
+
+/// A polygon: its closed rings, the first the exterior.
+pub type Rings = Box<[Chain]>;
+
 /// A geometry ready for distance queries.
+///
+/// Stored compactly (a layer keeps one per feature): boxed slices rather
+/// than growable arrays, 16-byte balls ([`BallCore`]), and everything a
+/// single point does not need (lines, polygons, their element starts, the
+/// box and the ball tree) in one optional box, [`Parts`]. A point costs
+/// 96 bytes here plus its (lon, lat) and its ball.
 #[derive(Clone, Debug, Default)]
 pub struct Prepared {
     /// Isolated points (of points and multipoints).
-    pub points: Vec<LonLat>,
-    /// Line strings, each of 2 or more vertices.
-    pub lines: Vec<Vec<LonLat>>,
-    /// Polygons, each a list of closed rings (the first is the exterior).
-    pub polygons: Vec<Vec<Vec<LonLat>>>,
-    /// For each polygon and ring: does the ring enclose the north pole
-    /// (see [`crate::proximity::contain`]).
-    pub north_pole_rings: Vec<Vec<bool>>,
+    pub points: Box<[LonLat]>,
     /// The ball of every element (without its (lon, lat) centre:
     /// [`Prepared::ball`] gives the whole ball), in element order: the
     /// isolated points, then the edges of every line, then those of every
     /// ring. The elements themselves are not stored: [`Prepared::element`]
-    /// reads them from the vertex arrays above.
-    pub balls: Vec<BallCore>,
-    /// Where each line's edges begin in `balls`, in order.
-    pub line_starts: Vec<u32>,
-    /// Where each ring's edges begin in `balls`, in order, with the
-    /// ring ([`Prepared::owner`] reads it).
-    pub ring_starts: Vec<(u32, RingRef)>,
+    /// reads them from the vertex arrays.
+    pub balls: Box<[BallCore]>,
+    /// Everything but isolated points; `None` for a single point or an
+    /// empty geometry.
+    parts: Option<Box<Parts>>,
     /// A ball around the whole geometry (`None` when empty).
     pub ball: Option<Ball>,
-    /// A box around the whole geometry, unwrapped (`None` when empty).
-    pub bbox: Option<LonLatBox>,
-    /// The hierarchy of balls over the elements: the element index of a
-    /// geometry of more than [`ELEMENT_INDEX_MIN`] elements, and for
-    /// best-first nearest searches ([`Prepared::add_ball_tree`]; layer
-    /// features always have one).
-    pub tree: Option<BallTree>,
 }
+
+/// What [`Prepared`] holds beyond a single point.
+#[derive(Clone, Debug)]
+pub struct Parts {
+    /// Line strings, each of 2 or more vertices.
+    lines: Box<[Chain]>,
+    /// Polygons, each a list of closed rings (the first is the exterior).
+    polygons: Box<[Rings]>,
+    /// Where each line's edges begin in `balls`, in order.
+    line_starts: Box<[u32]>,
+    /// Every ring, in order ([`Prepared::owner`] reads them).
+    ring_starts: Box<[RingStart]>,
+    /// A box around the whole geometry, unwrapped.
+    bbox: LonLatBox,
+    /// See [`Prepared::tree`].
+    tree: Option<BallTree>,
+}
+
+/// The tree of a geometry of one element: no groups.
+static ONE_ELEMENT: BallTree = BallTree::ONE_ELEMENT;
 
 /// The (lon, lat) pairs of an interleaved part (a closed ring when
 /// `ring`), in an array allocated fallibly, with vertices at a pole given
@@ -316,6 +448,71 @@ pub fn tree_bytes(n: usize, entry: usize) -> usize {
     n.saturating_mul(2 * entry + 72)
 }
 
+/// The vertex arrays of a geometry being prepared.
+#[derive(Default)]
+struct Gathered {
+    points: Vec<LonLat>,
+    lines: Vec<Chain>,
+    polygons: Vec<Rings>,
+}
+
+impl Gathered {
+    fn add(&mut self, g: &Geometry) -> Result<(), GeomError> {
+        let width = g.dims.width();
+        let chain = |v: &[f64], ring: bool| -> Result<Chain, GeomError> {
+            Ok(lonlat(v, width, ring)?.into_boxed_slice())
+        };
+        let add_polygon = |rings: &[Vec<f64>], this: &mut Gathered| -> Result<(), GeomError> {
+            let mut out: Vec<Chain> = memory::vec_with_capacity(rings.len())?;
+            for r in rings.iter().filter(|r| !r.is_empty()) {
+                out.push(chain(r, true)?);
+            }
+            if !out.is_empty() {
+                memory::reserve_one(&mut this.polygons)?;
+                this.polygons.push(out.into_boxed_slice());
+            }
+            Ok(())
+        };
+        match &g.shape {
+            Shape::Point(v) if !v.is_empty() => {
+                memory::reserve_one(&mut self.points)?;
+                self.points.push((v[0], v[1]));
+            }
+            Shape::Point(_) => {}
+            Shape::LineString(v) => {
+                if !v.is_empty() {
+                    memory::reserve_one(&mut self.lines)?;
+                    self.lines.push(chain(v, false)?);
+                }
+            }
+            Shape::Polygon(rings) => add_polygon(rings, self)?,
+            Shape::MultiPoint(points) => {
+                memory::reserve(&mut self.points, points.len())?;
+                for v in points.iter().filter(|v| !v.is_empty()) {
+                    self.points.push((v[0], v[1]));
+                }
+            }
+            Shape::MultiLineString(lines) => {
+                memory::reserve(&mut self.lines, lines.len())?;
+                for v in lines.iter().filter(|v| !v.is_empty()) {
+                    self.lines.push(chain(v, false)?);
+                }
+            }
+            Shape::MultiPolygon(polygons) => {
+                for rings in polygons {
+                    add_polygon(rings, self)?;
+                }
+            }
+            Shape::GeometryCollection(members) => {
+                for m in members {
+                    self.add(m)?;
+                }
+            }
+        }
+        Ok(())
+    }
+}
+
 impl Prepared {
     /// Prepares a geometry that has passed [`crate::geometry::validate`].
     /// Empty parts are dropped.
@@ -333,22 +530,23 @@ impl Prepared {
     /// instead of aborting the process). Nothing outside the value is
     /// changed either way.
     pub fn build(g: &Geometry, stop: &dyn Interrupt) -> Result<Prepared, GeomError> {
-        let mut p = Prepared::default();
-        p.add(g)?;
-        p.index(stop)?;
-        Ok(p)
+        let mut gathered = Gathered::default();
+        gathered.add(g)?;
+        Prepared::index(gathered, stop)
     }
 
     /// An estimate, in bytes, of the memory [`Prepared::build`] needs for
     /// `g` while it works and afterwards (rounded up): per vertex its
-    /// (lon, lat) pair, its element with ball, owner and Earth-centred
-    /// coordinates, and for an indexed geometry the R*-tree.
+    /// (lon, lat) pair, its element's ball, and (while its edges' balls
+    /// are made) its Earth-centred coordinates; the ball tree; the value
+    /// and its [`Parts`].
     pub fn estimated_bytes(g: &Geometry) -> usize {
         let n = g.vertex_count();
         let per_vertex = std::mem::size_of::<LonLat>()
             + std::mem::size_of::<BallCore>()
             + std::mem::size_of::<[f64; 3]>();
         std::mem::size_of::<Prepared>()
+            + std::mem::size_of::<Parts>()
             + n.saturating_mul(per_vertex)
             + BallTree::estimated_bytes(n)
     }
@@ -356,75 +554,33 @@ impl Prepared {
     /// Builds [`Prepared::tree`] if it is missing (see
     /// [`BallTree::build`] for `stop` and the errors).
     pub fn add_ball_tree(&mut self, stop: &dyn Interrupt) -> Result<(), GeomError> {
-        if self.tree.is_none() {
+        if self.tree().is_none() && self.parts.is_some() {
             let tree = BallTree::build(self, stop)?;
-            self.tree = Some(tree);
-        }
-        Ok(())
-    }
-
-    fn add(&mut self, g: &Geometry) -> Result<(), GeomError> {
-        let width = g.dims.width();
-        let add_polygon = |rings: &[Vec<f64>], this: &mut Prepared| -> Result<(), GeomError> {
-            let mut out: Vec<Vec<LonLat>> = memory::vec_with_capacity(rings.len())?;
-            for r in rings.iter().filter(|r| !r.is_empty()) {
-                out.push(lonlat(r, width, true)?);
-            }
-            if !out.is_empty() {
-                memory::reserve_one(&mut this.polygons)?;
-                this.polygons.push(out);
-            }
-            Ok(())
-        };
-        match &g.shape {
-            Shape::Point(v) if !v.is_empty() => self.points.push((v[0], v[1])),
-            Shape::Point(_) => {}
-            Shape::LineString(v) => {
-                if !v.is_empty() {
-                    self.lines.push(lonlat(v, width, false)?);
-                }
-            }
-            Shape::Polygon(rings) => add_polygon(rings, self)?,
-            Shape::MultiPoint(points) => {
-                memory::reserve(&mut self.points, points.len())?;
-                for v in points.iter().filter(|v| !v.is_empty()) {
-                    self.points.push((v[0], v[1]));
-                }
-            }
-            Shape::MultiLineString(lines) => {
-                memory::reserve(&mut self.lines, lines.len())?;
-                for v in lines.iter().filter(|v| !v.is_empty()) {
-                    self.lines.push(lonlat(v, width, false)?);
-                }
-            }
-            Shape::MultiPolygon(polygons) => {
-                for rings in polygons {
-                    add_polygon(rings, self)?;
-                }
-            }
-            Shape::GeometryCollection(members) => {
-                for m in members {
-                    self.add(m)?;
-                }
+            if let Some(parts) = &mut self.parts {
+                parts.tree = Some(tree);
             }
         }
         Ok(())
     }
 
-    fn index(&mut self, stop: &dyn Interrupt) -> Result<(), GeomError> {
-        let chains = self
-            .lines
+    fn index(gathered: Gathered, stop: &dyn Interrupt) -> Result<Prepared, GeomError> {
+        let Gathered {
+            points,
+            lines,
+            polygons,
+        } = gathered;
+        let chains = lines
             .iter()
-            .chain(self.polygons.iter().flatten())
+            .chain(polygons.iter().flat_map(|rings| rings.iter()))
             .map(|c| c.len().saturating_sub(1))
             .sum::<usize>();
-        let total = self.points.len() + chains;
+        let total = points.len() + chains;
         let mut elements: Vec<BallCore> = memory::vec_with_capacity(total)?;
-        for &p in &self.points {
-            elements.push(Ball::point(p).core());
+        for &p in &points {
+            elements.push(BallCore::enclosing(&Ball::point(p)));
         }
-        let mut ring_starts = Vec::new();
-        let mut line_starts = Vec::new();
+        let mut ring_starts: Vec<RingStart> = Vec::new();
+        let mut line_starts: Vec<u32> = Vec::new();
         let mut xyz: Vec<[f64; 3]> = Vec::new();
         let mut edges = |chain: &[LonLat], out: &mut Vec<BallCore>| -> Result<(), GeomError> {
             xyz.clear();
@@ -435,64 +591,149 @@ impl Prepared {
                     stop.check()?;
                 }
                 let (a, b) = (chain[k], chain[k + 1]);
-                out.push(Ball::edge_from(a, b, &xyz[k], &xyz[k + 1]).core());
+                out.push(BallCore::enclosing(&Ball::edge_from(
+                    a,
+                    b,
+                    &xyz[k],
+                    &xyz[k + 1],
+                )));
             }
             Ok(())
         };
-        for line in &self.lines {
-            memory::reserve_one(&mut line_starts)?;
+        memory::reserve(&mut line_starts, lines.len())?;
+        for line in &lines {
             line_starts.push(elements.len() as u32);
             edges(line, &mut elements)?;
         }
-        for (pi, rings) in self.polygons.iter().enumerate() {
-            let mut flags = Vec::with_capacity(rings.len());
+        memory::reserve(&mut ring_starts, polygons.iter().map(|r| r.len()).sum())?;
+        for (pi, rings) in polygons.iter().enumerate() {
             for (ri, ring) in rings.iter().enumerate() {
-                flags.push(crate::proximity::contain::encloses_north_pole(ring));
-                memory::reserve_one(&mut ring_starts)?;
-                ring_starts.push((
-                    elements.len() as u32,
-                    RingRef {
+                ring_starts.push(RingStart {
+                    start: elements.len() as u32,
+                    ring: RingRef {
                         polygon: pi as u32,
                         ring: ri as u32,
                     },
-                ));
+                    north: crate::proximity::contain::encloses_north_pole(ring),
+                });
                 edges(ring, &mut elements)?;
             }
-            self.north_pole_rings.push(flags);
         }
         drop(xyz);
         stop.check()?;
-        self.balls = elements;
-        self.line_starts = line_starts;
-        self.ring_starts = ring_starts;
-        self.ball = whole_ball(self);
-        self.bbox = bounding_box(self).map(|b| self.with_enclosed_poles(b));
-        if self.balls.len() > ELEMENT_INDEX_MIN {
-            let tree = BallTree::build(self, stop)?;
-            self.tree = Some(tree);
+        let mut p = Prepared {
+            points: points.into_boxed_slice(),
+            balls: elements.into_boxed_slice(),
+            parts: None,
+            ball: None,
+        };
+        let whole = p.balls.len() > 1 || !lines.is_empty() || !polygons.is_empty();
+        if whole {
+            p.parts = Some(Box::new(Parts {
+                lines: lines.into_boxed_slice(),
+                polygons: polygons.into_boxed_slice(),
+                line_starts: line_starts.into_boxed_slice(),
+                ring_starts: ring_starts.into_boxed_slice(),
+                bbox: LonLatBox {
+                    lon_lo: 0.0,
+                    lon_hi: 0.0,
+                    lat_lo: 0.0,
+                    lat_hi: 0.0,
+                },
+                tree: None,
+            }));
+            let bbox = bounding_box(&p).map(|b| p.with_enclosed_poles(b));
+            if let (Some(parts), Some(bbox)) = (&mut p.parts, bbox) {
+                parts.bbox = bbox;
+            }
         }
-        Ok(())
+        p.ball = whole_ball(&p);
+        if p.balls.len() > ELEMENT_INDEX_MIN {
+            p.add_ball_tree(stop)?;
+        }
+        Ok(p)
     }
 
-    /// Gives back the room that growth by pushes left in the small arrays
-    /// (a single point's array holds four): for values kept long, such as
-    /// a layer's features.
-    pub fn shrink_to_fit(&mut self) {
-        self.points.shrink_to_fit();
-        self.lines.shrink_to_fit();
-        self.polygons.shrink_to_fit();
-        self.north_pole_rings.shrink_to_fit();
-        self.line_starts.shrink_to_fit();
-        self.ring_starts.shrink_to_fit();
+    /// Line strings, each of 2 or more vertices.
+    pub fn lines(&self) -> &[Chain] {
+        self.parts.as_ref().map_or(&[], |p| &p.lines)
+    }
+
+    /// Polygons, each a list of closed rings (the first is the exterior).
+    pub fn polygons(&self) -> &[Rings] {
+        self.parts.as_ref().map_or(&[], |p| &p.polygons)
+    }
+
+    /// Every ring in order (polygon by polygon), with whether it encloses
+    /// the north pole (see [`crate::proximity::contain`]).
+    pub fn rings(&self) -> impl Iterator<Item = (&[LonLat], bool)> + '_ {
+        let starts = self.parts.as_ref().map_or(&[][..], |p| &p.ring_starts);
+        self.polygons()
+            .iter()
+            .flat_map(|rings| rings.iter())
+            .zip(starts)
+            .map(|(ring, start)| (&ring[..], start.north))
+    }
+
+    /// The lines and rings, in element order.
+    pub fn chains(&self) -> impl Iterator<Item = &[LonLat]> + '_ {
+        self.lines()
+            .iter()
+            .chain(self.polygons().iter().flat_map(|rings| rings.iter()))
+            .map(|c| &c[..])
+    }
+
+    /// A box around the whole geometry, unwrapped (`None` when empty).
+    pub fn bbox(&self) -> Option<LonLatBox> {
+        match (&self.parts, self.points.first()) {
+            (Some(parts), _) => Some(parts.bbox),
+            (None, Some(&(lon, lat))) => Some(LonLatBox {
+                lon_lo: lon,
+                lon_hi: lon,
+                lat_lo: lat,
+                lat_hi: lat,
+            }),
+            (None, None) => None,
+        }
+    }
+
+    /// The hierarchy of balls over the elements: the element index of a
+    /// geometry of more than [`ELEMENT_INDEX_MIN`] elements, and for
+    /// best-first nearest searches ([`Prepared::add_ball_tree`]; layer
+    /// features always have one). A single point's is the point itself.
+    pub fn tree(&self) -> Option<&BallTree> {
+        match &self.parts {
+            Some(parts) => parts.tree.as_ref(),
+            None if self.balls.len() == 1 => Some(&ONE_ELEMENT),
+            None => None,
+        }
+    }
+
+    /// Bytes held by the value and what it owns (the capacities of its
+    /// arrays; for memory reports).
+    pub fn bytes(&self) -> usize {
+        use std::mem::size_of;
+        let mut n = size_of::<Prepared>()
+            + self.points.len() * size_of::<LonLat>()
+            + self.balls.len() * size_of::<BallCore>();
+        if let Some(parts) = &self.parts {
+            n += size_of::<Parts>()
+                + parts.lines.len() * size_of::<Chain>()
+                + parts.polygons.len() * size_of::<Rings>()
+                + parts.polygons.iter().map(|r| r.len()).sum::<usize>() * size_of::<Chain>()
+                + self.chains().map(|c| c.len()).sum::<usize>() * size_of::<LonLat>()
+                + parts.line_starts.len() * size_of::<u32>()
+                + parts.ring_starts.len() * size_of::<RingStart>()
+                + parts.tree.as_ref().map_or(0, BallTree::bytes);
+        }
+        n
     }
 
     /// The (lon, lat) centres of the elements' balls, in element order
     /// (what [`Prepared::ball`] derives, without looking each element up).
     fn ball_centres(&self) -> impl Iterator<Item = LonLat> + '_ {
         self.points.iter().copied().chain(
-            self.lines
-                .iter()
-                .chain(self.polygons.iter().flatten())
+            self.chains()
                 .flat_map(|chain| chain.windows(2).map(|w| edge_centre(w[0], w[1]))),
         )
     }
@@ -501,15 +742,15 @@ impl Prepared {
     /// stored core with the centre's (lon, lat) derived from the element.
     #[inline]
     pub fn ball(&self, i: usize) -> Ball {
-        let centre = match self.element(i) {
+        self.balls[i].with_centre(self.ball_centre(i))
+    }
+
+    /// The (lon, lat) centre of element `i`'s ball.
+    #[inline]
+    pub fn ball_centre(&self, i: usize) -> LonLat {
+        match self.element(i) {
             Element::Point(p) => p,
             Element::Edge(a, b) => edge_centre(a, b),
-        };
-        let core = &self.balls[i];
-        Ball {
-            centre,
-            radius: core.radius,
-            xyz: core.xyz,
         }
     }
 
@@ -521,23 +762,23 @@ impl Prepared {
         if i < self.points.len() {
             return Element::Point(self.points[i]);
         }
-        let in_lines = self
+        let Some(parts) = &self.parts else {
+            panic!("element {i} of {}", self.balls.len());
+        };
+        let in_lines = parts
             .ring_starts
             .first()
-            .is_none_or(|&(start, _)| i < start as usize);
+            .is_none_or(|r| i < r.start as usize);
         let (chain, start) = if in_lines {
-            let k = self
+            let k = parts
                 .line_starts
                 .partition_point(|&start| start as usize <= i)
                 - 1;
-            (&self.lines[k], self.line_starts[k])
+            (&parts.lines[k], parts.line_starts[k])
         } else {
-            let k = self
-                .ring_starts
-                .partition_point(|&(start, _)| start as usize <= i)
-                - 1;
-            let (start, r) = self.ring_starts[k];
-            (&self.polygons[r.polygon as usize][r.ring as usize], start)
+            let k = parts.ring_starts.partition_point(|r| r.start as usize <= i) - 1;
+            let RingStart { start, ring: r, .. } = parts.ring_starts[k];
+            (&parts.polygons[r.polygon as usize][r.ring as usize], start)
         };
         let k = i - start as usize;
         Element::Edge(chain[k], chain[k + 1])
@@ -555,16 +796,15 @@ impl Prepared {
 
     /// The ring element `i` bounds (`None` for points and line edges).
     pub fn owner(&self, i: usize) -> Option<RingRef> {
-        let k = self
-            .ring_starts
-            .partition_point(|&(start, _)| start as usize <= i);
-        (k > 0).then(|| self.ring_starts[k - 1].1)
+        let starts = self.parts.as_ref().map_or(&[][..], |p| &p.ring_starts);
+        let k = starts.partition_point(|r| r.start as usize <= i);
+        (k > 0).then(|| starts[k - 1].ring)
     }
 
     /// Positions in `elements` of the elements whose boxes meet `query`
     /// (all of them when the geometry has no index). May repeat none.
     pub fn elements_near(&self, query: &LonLatBox) -> Vec<usize> {
-        match &self.tree {
+        match self.tree() {
             Some(tree) if self.indexed() => {
                 let (parts, n) = query.normalised_parts();
                 let mut found = Vec::new();
@@ -579,7 +819,7 @@ impl Prepared {
     /// elements: its element index ([`Prepared::tree`]) is asked rather
     /// than every element scanned.
     pub fn indexed(&self) -> bool {
-        self.balls.len() > ELEMENT_INDEX_MIN && self.tree.is_some()
+        self.balls.len() > ELEMENT_INDEX_MIN && self.tree().is_some()
     }
 
     /// True when the geometry has no vertex.
@@ -592,12 +832,10 @@ impl Prepared {
     /// geometry lies inside the other and no edges cross, neither contains
     /// any part of the other.
     pub fn probes(&self) -> impl Iterator<Item = LonLat> + '_ {
-        self.points.iter().copied().chain(
-            self.lines
-                .iter()
-                .chain(self.polygons.iter().flatten())
-                .map(|chain| chain[0]),
-        )
+        self.points
+            .iter()
+            .copied()
+            .chain(self.chains().map(|chain| chain[0]))
     }
 }
 
@@ -619,8 +857,10 @@ fn whole_ball(g: &Prepared) -> Option<Ball> {
     let centre = (first.0 + (lo_x + hi_x) / 2.0, (lo_y + hi_y) / 2.0);
     let xyz = ecef(centre);
     let mut radius = 0.0f64;
+    // The element's stored centre is within CENTRE_SHIFT of its true one.
     for b in &g.balls {
-        radius = radius.max(arc_upper(&xyz, &b.xyz) + b.radius);
+        radius =
+            radius.max(arc_upper_within(&xyz, &b.centre(), CENTRE_SHIFT) + f64::from(b.radius));
     }
     Some(Ball {
         centre,
@@ -640,10 +880,10 @@ impl Prepared {
     /// around: such a ring's area holds its pole, beyond its vertices, and
     /// a layer's index must find the feature for queries there.
     fn with_enclosed_poles(&self, mut b: LonLatBox) -> LonLatBox {
-        for (rings, flags) in self.polygons.iter().zip(&self.north_pole_rings) {
-            let (Some(exterior), Some(&north)) = (rings.first(), flags.first()) else {
-                continue;
-            };
+        let starts = self.parts.as_ref().map_or(&[][..], |p| &p.ring_starts);
+        for start in starts.iter().filter(|r| r.ring.ring == 0) {
+            let exterior = &self.polygons()[start.ring.polygon as usize][0];
+            let north = start.north;
             if winds_around_a_pole(exterior) {
                 if north {
                     b.lat_hi = 90.0;
@@ -684,7 +924,7 @@ fn bounding_box(g: &Prepared) -> Option<LonLatBox> {
         b.lon_hi = b.lon_hi.max(x);
         b.lat_lo = b.lat_lo.min(centre.1);
         b.lat_hi = b.lat_hi.max(centre.1);
-        radius = radius.max(ball.radius);
+        radius = radius.max(f64::from(ball.radius));
     }
     Some(b.grown(radius))
 }
@@ -702,9 +942,9 @@ mod tests {
         )
         .unwrap();
         let p = Prepared::new(&g);
-        assert_eq!(p.points, vec![(1.0, 2.0)]);
-        assert_eq!(p.lines.len(), 1);
-        assert_eq!(p.polygons.len(), 1);
+        assert_eq!(p.points.to_vec(), vec![(1.0, 2.0)]);
+        assert_eq!(p.lines().len(), 1);
+        assert_eq!(p.polygons().len(), 1);
         assert_eq!(p.element_count(), 1 + 2 + 3);
         assert_eq!(p.element(0), Element::Point((1.0, 2.0)));
         assert_eq!(p.element(2), Element::Edge((1.0, 1.0), (2.0, 1.0)));
@@ -735,6 +975,14 @@ mod tests {
                 );
                 let d = inverse::distance(ball.centre.0, ball.centre.1, lon, lat);
                 assert!(d <= ball.radius, "{d} > {}", ball.radius);
+                // The stored ball: geodesic from the (lon, lat) centre and
+                // straight from the f32 centre.
+                let stored = BallCore::enclosing(&ball);
+                assert!(d <= f64::from(stored.radius));
+                let x = ecef((lon, lat));
+                let c = stored.centre();
+                let straight = (0..3).map(|k| (x[k] - c[k]).powi(2)).sum::<f64>().sqrt();
+                assert!(straight <= f64::from(stored.radius), "{straight}");
             }
         }
     }
@@ -751,7 +999,7 @@ mod tests {
         .unwrap();
         let p = Prepared::new(&g);
         let mut built = vec![Element::Point((1.0, 2.0)), Element::Point((3.0, 4.0))];
-        for chain in p.lines.iter().chain(p.polygons.iter().flatten()) {
+        for chain in p.chains() {
             built.extend(chain.windows(2).map(|w| Element::Edge(w[0], w[1])));
         }
         assert_eq!(p.elements().collect::<Vec<_>>(), built);
@@ -760,7 +1008,17 @@ mod tests {
                 Element::Point(q) => Ball::point(q),
                 Element::Edge(a, b) => Ball::edge(a, b),
             };
-            assert_eq!(p.ball(i), ball, "element {i}");
+            let stored = BallCore::enclosing(&ball);
+            assert_eq!(p.ball(i), stored.with_centre(ball.centre), "element {i}");
+            // The stored ball holds the one built: its centre moved by at
+            // most CENTRE_SHIFT and its radius grew by at least that move.
+            let c = stored.centre();
+            let moved = (0..3)
+                .map(|k| (ball.xyz[k] - c[k]).powi(2))
+                .sum::<f64>()
+                .sqrt();
+            assert!(moved <= CENTRE_SHIFT);
+            assert!(ball.radius + moved <= f64::from(stored.radius));
         }
         let centres: Vec<LonLat> = (0..built.len()).map(|i| p.ball(i).centre).collect();
         assert_eq!(p.ball_centres().collect::<Vec<_>>(), centres);

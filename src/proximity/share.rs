@@ -151,7 +151,7 @@ pub fn coverage_share(
     reaching: &[&Feature],
     stop: &dyn Interrupt,
 ) -> Result<Option<f64>, ShareError> {
-    let Some(ball) = g.ball.filter(|_| !g.polygons.is_empty()) else {
+    let Some(ball) = g.ball.filter(|_| !g.polygons().is_empty()) else {
         return Ok(None);
     };
     if reaching.is_empty() {
@@ -186,7 +186,7 @@ fn in_pieces(
     }
     let reach_boxes: Vec<Option<LonLatBox>> = reaching
         .iter()
-        .map(|f| f.geometry.bbox.map(|b| b.grown(f.reach)))
+        .map(|f| f.geometry.bbox().map(|b| b.grown(f.reach)))
         .collect();
     let rings = lonlat_rings(g, stop)?;
     let mut sums = Sums {
@@ -199,7 +199,7 @@ fn in_pieces(
         rings,
         stop,
         &mut |piece: Prepared| -> Result<(), ShareError> {
-            let (Some(ball), Some(bbox)) = (piece.ball, piece.bbox) else {
+            let (Some(ball), Some(bbox)) = (piece.ball, piece.bbox()) else {
                 return Ok(());
             };
             let near: Vec<&Feature> = reaching
@@ -238,7 +238,7 @@ fn boxes_meet(a: &LonLatBox, b: &LonLatBox) -> bool {
 /// Geodesic area of `g`'s polygons (each exterior less its holes), square
 /// metres.
 fn geodesic_area(g: &Prepared) -> f64 {
-    g.polygons
+    g.polygons()
         .iter()
         .map(|rings| {
             rings
@@ -287,7 +287,7 @@ impl Sums {
 /// longitude, unwrapped from its first vertex, and latitude is not 0): a
 /// cheap test of degenerate polygons, none of whose rings spans any area.
 fn area_positive(g: &Prepared) -> bool {
-    g.polygons.iter().flatten().any(|ring| {
+    g.polygons().iter().flatten().any(|ring| {
         let winding: f64 = ring.windows(2).map(|w| wrap_delta(w[0].0, w[1].0)).sum();
         if winding.abs() > 180.0 {
             // Around a pole: it encloses a cap.
@@ -581,7 +581,7 @@ impl Plane {
         let mut breaks = Vec::new();
         let mut kinks: Vec<(f64, f64)> = Vec::new();
         let mut since_check = 0;
-        for ring in g.polygons.iter().flatten() {
+        for ring in g.polygons().iter().flatten() {
             let mut pts: Vec<(f64, f64)> = Vec::with_capacity(ring.len());
             for (k, &p) in ring.iter().enumerate() {
                 since_check += 1;
@@ -623,7 +623,7 @@ impl Plane {
 
         let mut pieces = Vec::new();
         let mut interiors = Vec::new();
-        let bbox = g.bbox.expect("a geometry with a ball has a box");
+        let bbox = g.bbox().expect("a geometry with a ball has a box");
         let plane_box = [x_lo, x_hi, y_lo, y_hi];
         for f in reaching {
             stop.check()?;
@@ -943,7 +943,7 @@ fn feature_in_plane(
     breaks: &mut Vec<(f64, f64)>,
 ) {
     let geometry = &f.geometry;
-    let has_interior = !geometry.polygons.is_empty();
+    let has_interior = !geometry.polygons().is_empty();
     // The reference point may move up to REFERENCE_SHIFT metres (below).
     let query = if has_interior && rho + REFERENCE_SHIFT > f.reach {
         match path_box(frame, reference, top_right) {
