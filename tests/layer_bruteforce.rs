@@ -7,19 +7,20 @@
 
 use ambit::blob::wkt;
 use ambit::geometry::validate::validate;
+use ambit::interrupt::Never;
 use ambit::proximity::{distance, Feature, Layer, Prepared};
 use ambit::testing::XorShift;
 use ambit::units::METRES_PER_MILE;
 
 fn prepare(text: &str) -> Prepared {
     let g = wkt::parse(text).unwrap();
-    validate(&g, 4326).unwrap();
+    validate(&g, 4326, &Never).unwrap();
     Prepared::new(&g)
 }
 
 fn feature(id: i64, text: &str, reach: f64) -> Feature {
     let g = wkt::parse(text).unwrap();
-    validate(&g, 4326).unwrap();
+    validate(&g, 4326, &Never).unwrap();
     Feature {
         id,
         reach,

@@ -254,9 +254,17 @@ pub struct Prepared {
 /// The (lon, lat) pairs of an interleaved part (a closed ring when
 /// `ring`), in an array allocated fallibly, with vertices at a pole given
 /// the meridian of their edge ([`meridians_at_poles`]).
-fn lonlat(part: &[f64], width: usize, ring: bool) -> Result<Vec<LonLat>, GeomError> {
+fn lonlat(
+    part: &[f64],
+    width: usize,
+    ring: bool,
+    stop: &dyn Interrupt,
+) -> Result<Vec<LonLat>, GeomError> {
     let mut chain = memory::vec_with_capacity(part.len() / width)?;
-    chain.extend(part.chunks_exact(width).map(|v| (v[0], v[1])));
+    for run in part.chunks(width * (CHECK_EVERY / 8)) {
+        stop.check()?;
+        chain.extend(run.chunks_exact(width).map(|v| (v[0], v[1])));
+    }
     if chain.iter().any(|p| at_pole(*p)) {
         Ok(meridians_at_poles(&chain, ring))
     } else {
@@ -334,7 +342,7 @@ impl Prepared {
     /// changed either way.
     pub fn build(g: &Geometry, stop: &dyn Interrupt) -> Result<Prepared, GeomError> {
         let mut p = Prepared::default();
-        p.add(g)?;
+        p.add(g, stop)?;
         p.index(stop)?;
         Ok(p)
     }
@@ -363,12 +371,12 @@ impl Prepared {
         Ok(())
     }
 
-    fn add(&mut self, g: &Geometry) -> Result<(), GeomError> {
+    fn add(&mut self, g: &Geometry, stop: &dyn Interrupt) -> Result<(), GeomError> {
         let width = g.dims.width();
         let add_polygon = |rings: &[Vec<f64>], this: &mut Prepared| -> Result<(), GeomError> {
             let mut out: Vec<Vec<LonLat>> = memory::vec_with_capacity(rings.len())?;
             for r in rings.iter().filter(|r| !r.is_empty()) {
-                out.push(lonlat(r, width, true)?);
+                out.push(lonlat(r, width, true, stop)?);
             }
             if !out.is_empty() {
                 memory::reserve_one(&mut this.polygons)?;
@@ -381,7 +389,7 @@ impl Prepared {
             Shape::Point(_) => {}
             Shape::LineString(v) => {
                 if !v.is_empty() {
-                    self.lines.push(lonlat(v, width, false)?);
+                    self.lines.push(lonlat(v, width, false, stop)?);
                 }
             }
             Shape::Polygon(rings) => add_polygon(rings, self)?,
@@ -394,7 +402,7 @@ impl Prepared {
             Shape::MultiLineString(lines) => {
                 memory::reserve(&mut self.lines, lines.len())?;
                 for v in lines.iter().filter(|v| !v.is_empty()) {
-                    self.lines.push(lonlat(v, width, false)?);
+                    self.lines.push(lonlat(v, width, false, stop)?);
                 }
             }
             Shape::MultiPolygon(polygons) => {
@@ -404,7 +412,7 @@ impl Prepared {
             }
             Shape::GeometryCollection(members) => {
                 for m in members {
-                    self.add(m)?;
+                    self.add(m, stop)?;
                 }
             }
         }
@@ -429,7 +437,10 @@ impl Prepared {
         let mut edges = |chain: &[LonLat], out: &mut Vec<BallCore>| -> Result<(), GeomError> {
             xyz.clear();
             memory::reserve(&mut xyz, chain.len())?;
-            xyz.extend(chain.iter().map(|&p| ecef(p)));
+            for run in chain.chunks(CHECK_EVERY / 8) {
+                stop.check()?;
+                xyz.extend(run.iter().map(|&p| ecef(p)));
+            }
             for k in 0..chain.len().saturating_sub(1) {
                 if k % CHECK_EVERY == CHECK_EVERY - 1 {
                     stop.check()?;
@@ -466,7 +477,9 @@ impl Prepared {
         self.line_starts = line_starts;
         self.ring_starts = ring_starts;
         self.ball = whole_ball(self);
+        stop.check()?;
         self.bbox = bounding_box(self).map(|b| self.with_enclosed_poles(b));
+        stop.check()?;
         if self.balls.len() > ELEMENT_INDEX_MIN {
             let tree = BallTree::build(self, stop)?;
             self.tree = Some(tree);

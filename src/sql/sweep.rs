@@ -244,7 +244,7 @@ fn evaluate(
         Value::Null => (Value::Null, Value::Null, Value::Null),
         Value::Blob(bytes) => {
             let fail = |e: &dyn std::fmt::Display| format!("row with id {}: {e}", show(&id));
-            let decoded = blob::decode_valid(bytes).map_err(|e| fail(&e))?;
+            let decoded = blob::decode_valid(bytes, stop).map_err(|e| fail(&e))?;
             // Reached alone, and no feature's box near the geometry's
             // envelope: not reached, without preparing it.
             if wanted.0 == 1 << COL_REACHED
