@@ -18,6 +18,7 @@ use std::time::Instant;
 
 use ambit::blob::{self, gpkg, wkb};
 use ambit::geometry::{Dimensions, Geometry, Shape};
+use ambit::interrupt::Never;
 
 const VERTICES: usize = 40;
 
@@ -114,7 +115,10 @@ fn main() {
     for (name, blobs) in [("GeoPackage", &gp), ("WKB", &wk)] {
         let plain = ns_per_blob(blobs, |b| blob::decode(b).unwrap().geometry.vertex_count());
         let valid = ns_per_blob(blobs, |b| {
-            blob::decode_valid(b).unwrap().geometry.vertex_count()
+            blob::decode_valid(b, &Never)
+                .unwrap()
+                .geometry
+                .vertex_count()
         });
         println!("  {name:<10} decode {plain:7.1} ns/blob   decode + checks {valid:7.1} ns/blob");
     }

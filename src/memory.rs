@@ -55,6 +55,49 @@ pub fn discard<T: Send + 'static>(garbage: T) {
     rayon::spawn(move || drop(garbage));
 }
 
+/// A value that is freed by [`discard`] when dropped if it was made
+/// `big`, and in place otherwise: for the big temporaries of a long
+/// computation (hundreds of megabytes take tens of milliseconds to free),
+/// which would otherwise delay its return, after an interrupt too. Small
+/// values are not worth a job on the pool.
+pub struct FreeLater<T: Send + 'static> {
+    value: Option<T>,
+    big: bool,
+}
+
+impl<T: Send + 'static> FreeLater<T> {
+    /// Wraps `value`; `big` says whether to free it in the background.
+    pub fn new(value: T, big: bool) -> FreeLater<T> {
+        FreeLater {
+            value: Some(value),
+            big,
+        }
+    }
+}
+
+impl<T: Send + 'static> std::ops::Deref for FreeLater<T> {
+    type Target = T;
+    fn deref(&self) -> &T {
+        self.value.as_ref().expect("a value until dropped")
+    }
+}
+
+impl<T: Send + 'static> std::ops::DerefMut for FreeLater<T> {
+    fn deref_mut(&mut self) -> &mut T {
+        self.value.as_mut().expect("a value until dropped")
+    }
+}
+
+impl<T: Send + 'static> Drop for FreeLater<T> {
+    fn drop(&mut self) {
+        if let Some(value) = self.value.take() {
+            if self.big {
+                discard(value);
+            }
+        }
+    }
+}
+
 /// A byte count for people: "840 bytes", "12.3 MB", "1.52 GB" (decimal
 /// units, SI).
 pub fn describe_bytes(bytes: usize) -> String {

@@ -14,6 +14,7 @@ mod common;
 
 use ambit::blob::{self, geojson, gpkg, wkb as ambit_wkb, wkt};
 use ambit::geometry::{Dimensions, Geometry, Shape};
+use ambit::interrupt::Never;
 use ambit::testing::{random_geometry, XorShift};
 use geo_traits::{
     CoordTrait, GeometryCollectionTrait, GeometryTrait, GeometryType, LineStringTrait,
@@ -165,14 +166,14 @@ fn hostile_blobs_never_panic() {
                 if blob::decode(&blob[..cut]).is_err() {
                     errors += 1;
                 }
-                let _ = blob::decode_valid(&blob[..cut]);
+                let _ = blob::decode_valid(&blob[..cut], &Never);
                 let _ = blob::summary(&blob[..cut]);
             }
             for _ in 0..64 {
                 let mut bad = blob.clone();
                 let i = rng.below(bad.len() as u64) as usize;
                 bad[i] = rng.next_u64() as u8;
-                let _ = blob::decode_valid(&bad);
+                let _ = blob::decode_valid(&bad, &Never);
             }
         }
     }
@@ -181,10 +182,10 @@ fn hostile_blobs_never_panic() {
     // Pure noise.
     for len in 0..2000 {
         let noise: Vec<u8> = (0..len).map(|_| rng.next_u64() as u8).collect();
-        let _ = blob::decode_valid(&noise);
+        let _ = blob::decode_valid(&noise, &Never);
         let mut gp = b"GP\0\x01".to_vec();
         gp.extend_from_slice(&noise);
-        let _ = blob::decode_valid(&gp);
+        let _ = blob::decode_valid(&gp, &Never);
     }
 }
 

@@ -7,19 +7,20 @@
 
 use ambit::blob::wkt;
 use ambit::geometry::validate::validate;
+use ambit::interrupt::Never;
 use ambit::proximity::{distance, Feature, Layer, Prepared};
 use ambit::testing::XorShift;
 use ambit::units::METRES_PER_MILE;
 
 fn prepare(text: &str) -> Prepared {
     let g = wkt::parse(text).unwrap();
-    validate(&g, 4326).unwrap();
+    validate(&g, 4326, &Never).unwrap();
     Prepared::new(&g)
 }
 
 fn feature(id: i64, text: &str, reach: f64) -> Feature {
     let g = wkt::parse(text).unwrap();
-    validate(&g, 4326).unwrap();
+    validate(&g, 4326, &Never).unwrap();
     Feature {
         id,
         reach,
@@ -373,7 +374,7 @@ fn the_quick_reach_verdict_agrees_with_brute_force() {
                 _ => format!("POLYGON ({})", ring(&mut rng, c, 10, 0.0015)),
             };
             let g = wkt::parse(&text).unwrap();
-            validate(&g, 4326).unwrap();
+            validate(&g, 4326, &Never).unwrap();
             let block = Prepared::new(&g);
             let truth = layer
                 .features()
@@ -387,7 +388,7 @@ fn the_quick_reach_verdict_agrees_with_brute_force() {
             }
             seen[verdict as usize] += 1;
             assert_eq!(
-                reached(&layer, &g, &ambit::interrupt::Never).unwrap(),
+                reached(&layer, &g, &Never).unwrap(),
                 truth,
                 "{centre:?} block {b}: {text}"
             );
@@ -424,13 +425,13 @@ fn the_quick_reach_verdict_holds_at_the_reach_boundary() {
             let text =
                 format!("POLYGON (({lon} {lat}, {lon3} {lat3}, {lon2} {lat2}, {lon} {lat}))");
             let g = wkt::parse(&text).unwrap();
-            validate(&g, 4326).unwrap();
+            validate(&g, 4326, &Never).unwrap();
             let verdict = reached_verdict(&layer, &g);
             if !inside {
                 assert_ne!(verdict, Verdict::Reached, "azimuth {azimuth}: {text}");
             }
             assert_eq!(
-                reached(&layer, &g, &ambit::interrupt::Never).unwrap(),
+                reached(&layer, &g, &Never).unwrap(),
                 inside,
                 "azimuth {azimuth}, offset {offset}"
             );

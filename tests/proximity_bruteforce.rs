@@ -10,6 +10,7 @@
 use ambit::blob::wkt;
 use ambit::geodesy::segment;
 use ambit::geometry::validate::validate;
+use ambit::interrupt::Never;
 use ambit::proximity::contain::{exact_edge_latitude, point_in_polygon, point_in_ring};
 use ambit::proximity::prepared::{wrap_delta, Element, LonLat, Prepared};
 use ambit::proximity::{distance, within, within_counted, Work};
@@ -84,7 +85,7 @@ fn random_geometry(rng: &mut XorShift, c: LonLat, size: f64) -> String {
 
 fn prepare(text: &str) -> Prepared {
     let g = wkt::parse(text).unwrap();
-    validate(&g, 4326).unwrap();
+    validate(&g, 4326, &Never).unwrap();
     Prepared::new(&g)
 }
 

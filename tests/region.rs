@@ -12,6 +12,7 @@ mod common;
 use ambit::blob::wkt;
 use ambit::geometry::validate::validate;
 use ambit::geometry::{Dimensions, Geometry, Shape};
+use ambit::interrupt::Never;
 use ambit::proximity::validity::area as geometry_area;
 use ambit::proximity::{distance, Prepared};
 use std::collections::{HashMap, HashSet};
@@ -298,7 +299,7 @@ fn check_tiling(
     let mut multi = 0;
     for c in counties {
         let g = wkt::parse(&c[3]).unwrap();
-        validate(&g, 4326).unwrap();
+        validate(&g, 4326, &Never).unwrap();
         let Shape::MultiPolygon(parts) = &g.shape else {
             panic!("county {} is not a MULTIPOLYGON", c[1]);
         };
@@ -322,7 +323,7 @@ fn check_tiling(
     let mut count: HashMap<Edge, u32> = HashMap::new();
     for b in blocks {
         let g = wkt::parse(&b[4]).unwrap();
-        validate(&g, 4326).unwrap_or_else(|e| panic!("block {}: {e}", b[1]));
+        validate(&g, 4326, &Never).unwrap_or_else(|e| panic!("block {}: {e}", b[1]));
         let Shape::Polygon(r) = &g.shape else {
             panic!("block {} is not a POLYGON", b[1]);
         };
@@ -457,7 +458,7 @@ fn features_are_plausible() {
     let mut most = 0;
     for p in &parks {
         let g = wkt::parse(&p[3]).unwrap();
-        validate(&g, 4326).unwrap();
+        validate(&g, 4326, &Never).unwrap();
         for r in rings(&g) {
             assert!(ring_is_simple(r), "park {} crosses itself", p[1]);
         }
@@ -665,7 +666,7 @@ fn amenity_tables_are_plausible_and_on_land() {
         for r in rows.iter() {
             let what = format!("{t} {}", r[1]);
             let g = wkt::parse(&r[4]).unwrap();
-            validate(&g, 4326).unwrap_or_else(|e| panic!("{what}: {e}"));
+            validate(&g, 4326, &Never).unwrap_or_else(|e| panic!("{what}: {e}"));
             match &g.shape {
                 Shape::Point(v) => {
                     let c = county_of(v[0], v[1], &what);
@@ -1092,7 +1093,7 @@ fn national_country_has_valid_states_counties_geoids_and_heavy_shapes() {
         let n = g.vertex_count();
         assert!(n <= 400_000, "park {} has {n} vertices", p[1]);
         if n >= 100_000 {
-            validate(&g, 4326).unwrap();
+            validate(&g, 4326, &Never).unwrap();
             for r in rings(&g) {
                 assert!(ring_is_simple(r), "park {} crosses itself", p[1]);
             }

@@ -16,6 +16,7 @@ use ambit::blob::{decode_valid, gpkg, wkt};
 use ambit::error::{GeomError, PolygonProblem};
 use ambit::geodesy::segment::segments_intersect;
 use ambit::geometry::{validate, Geometry};
+use ambit::interrupt::Never;
 use ambit::proximity::validity::{area, check};
 use ambit::proximity::{distance, Prepared};
 use ambit::testing::XorShift;
@@ -26,7 +27,7 @@ fn parse(text: &str) -> Geometry {
 }
 
 fn problem(text: &str) -> GeomError {
-    check(&parse(text)).unwrap_err()
+    check(&parse(text), &Never).unwrap_err()
 }
 
 /// |area| of one ring by geographiclib-rs (closing vertex left out).
@@ -61,7 +62,7 @@ fn a_hole_outside_its_shell_is_refused() {
         &parse("POLYGON((0 0,0.001 0,0.001 0.001,0 0),(1 1,2 1,2 2,1 1))"),
         4326,
     );
-    assert_eq!(decode_valid(&blob).unwrap_err(), e);
+    assert_eq!(decode_valid(&blob, &Never).unwrap_err(), e);
 }
 
 #[test]
@@ -162,7 +163,9 @@ fn overlapping_parts_of_a_multipolygon_are_refused() {
     check(&parse(
         "MULTIPOLYGON(((0 0, 1 0, 1 1, 0 1, 0 0),(0.1 0.1, 0.9 0.1, 0.9 0.9, 0.1 0.9, 0.1 0.1)),\
          ((0.4 0.4, 0.6 0.4, 0.6 0.6, 0.4 0.6, 0.4 0.4)))",
-    ))
+        ),
+        &Never,
+    )
     .unwrap();
 }
 
@@ -195,7 +198,7 @@ fn small_defects_with_one_meaning_are_accepted_and_measured() {
     };
     // Repeated consecutive points: the square's area.
     let g = parse("POLYGON((0 0, 0.01 0, 0.01 0, 0.01 0.01, 0 0.01, 0 0.01, 0 0))");
-    check(&g).unwrap();
+    check(&g, &Never).unwrap();
     let want = karney(&sq(0.0, 0.0, 0.01));
     assert!(
         (area(&g) - want).abs() < 1e-6 * want,
@@ -205,12 +208,12 @@ fn small_defects_with_one_meaning_are_accepted_and_measured() {
 
     // A ring of zero area (there and back along a line): accepted, 0.
     let g = parse("POLYGON((0 0, 0.01 0, 0.02 0, 0.01 0, 0 0))");
-    check(&g).unwrap();
+    check(&g, &Never).unwrap();
     assert_eq!(area(&g), 0.0);
 
     // A bow-tie whose lobes meet at a vertex: the sum of the lobes.
     let g = parse("POLYGON((0 0, 0.01 0, 0.005 0.005, 0.01 0.01, 0 0.01, 0.005 0.005, 0 0))");
-    check(&g).unwrap();
+    check(&g, &Never).unwrap();
     let lobes = karney(&[(0.0, 0.0), (0.01, 0.0), (0.005, 0.005), (0.0, 0.0)])
         + karney(&[(0.005, 0.005), (0.01, 0.01), (0.0, 0.01), (0.005, 0.005)]);
     let a = area(&g);
@@ -248,7 +251,7 @@ fn small_defects_with_one_meaning_are_accepted_and_measured() {
     let g = parse(
         "POLYGON((0 0, 0.01 0, 0.01 0.01, 0.005 0.01, 0.007 0.005, 0.003 0.005, 0.005 0.01, 0 0.01, 0 0))",
     );
-    check(&g).unwrap();
+    check(&g, &Never).unwrap();
     let want = karney(&sq(0.0, 0.0, 0.01))
         - karney(&[(0.005, 0.01), (0.007, 0.005), (0.003, 0.005), (0.005, 0.01)]);
     let a = area(&g);
@@ -268,7 +271,7 @@ fn small_defects_with_one_meaning_are_accepted_and_measured() {
         let g = parse(&format!(
             "POLYGON((0 0, 0.01 0, 0.01 0.01, 0 0.01, 0 0),{hole})"
         ));
-        check(&g).unwrap();
+        check(&g, &Never).unwrap();
         let h: Vec<(f64, f64)> = hole
             .trim_matches(|c| c == '(' || c == ')')
             .split(',')
@@ -287,7 +290,7 @@ fn small_defects_with_one_meaning_are_accepted_and_measured() {
         "MULTIPOLYGON(((0 0, 0.01 0, 0.01 0.01, 0 0.01, 0 0)),((0.01 0, 0.02 0, 0.02 0.01, 0.01 0.01, 0.01 0)))",
     ] {
         let g = parse(text);
-        check(&g).unwrap();
+        check(&g, &Never).unwrap();
         let want = karney(&sq(0.0, 0.0, 0.01)) + karney(&sq(0.01, 0.0, 0.01)).min(karney(&sq(0.01, 0.01, 0.01))).max(0.0);
         let a = area(&g);
         // Both parts are 0.01-degree squares near the equator; each within
@@ -336,7 +339,7 @@ fn random_rings_are_refused_exactly_when_their_edges_cross() {
                 }
             }
         }
-        let verdict = check(&parse(&text));
+        let verdict = check(&parse(&text), &Never);
         assert_eq!(verdict.is_err(), meets, "{text}: {verdict:?}");
         if meets {
             crossing += 1;
@@ -369,7 +372,7 @@ fn a_200000_vertex_polygon_is_checked_quickly() {
         ambit::geometry::Shape::Polygon(vec![flat.clone()]),
     );
     let t = Instant::now();
-    validate::validate(&g, 4326).unwrap();
+    validate::validate(&g, 4326, &Never).unwrap();
     // The saw-tooth is the hard case for box filters: each tooth (0.002
     // degrees long, 1.6e-5 degrees from the next) has boxes meeting about
     // 160 others. A smooth boundary of as many vertices is much quicker.
@@ -388,7 +391,7 @@ fn a_200000_vertex_polygon_is_checked_quickly() {
         ambit::geometry::Shape::Polygon(vec![smooth]),
     );
     let t = Instant::now();
-    validate::validate(&s, 4326).unwrap();
+    validate::validate(&s, 4326, &Never).unwrap();
     println!(
         "200,000-vertex smooth polygon validated in {:.3} s",
         t.elapsed().as_secs_f64()
@@ -402,7 +405,7 @@ fn a_200000_vertex_polygon_is_checked_quickly() {
         ambit::geometry::Shape::Polygon(vec![bad]),
     );
     let t = Instant::now();
-    let e = validate::validate(&g, 4326).unwrap_err();
+    let e = validate::validate(&g, 4326, &Never).unwrap_err();
     println!(
         "... with a crossing refused in {:.3} s: {e}",
         t.elapsed().as_secs_f64()

@@ -16,6 +16,7 @@ pub mod wkt;
 
 use crate::error::GeomError;
 use crate::geometry::{validate, Dimensions, Geometry, GeometryType};
+use crate::interrupt::Interrupt;
 
 pub use wkb::MAX_NESTING;
 
@@ -76,20 +77,25 @@ pub fn decode(buf: &[u8]) -> Result<Decoded, GeomError> {
 
 /// Decodes a blob and checks it as ambit requires before using it: a
 /// longitude/latitude srs_id, finite coordinates in range, closed rings of
-/// at least 4 points (see [`crate::geometry::validate`]).
+/// at least 4 points (see [`crate::geometry::validate`]). The polygon
+/// checks, the long part for a big polygon (about 2 µs a vertex), ask
+/// `stop` after every millisecond or so of work and return
+/// `Err(GeomError::Interrupted)` when it says stop; pass
+/// [`Never`](crate::interrupt::Never) when nothing can interrupt.
 ///
 /// # Example
 /// ```
 /// use ambit::blob::{decode_valid, gpkg};
 /// use ambit::geometry::Geometry;
+/// use ambit::interrupt::Never;
 /// // Projected metres, not degrees: refused with a message saying so.
 /// let blob = gpkg::write(&Geometry::point(500000.0, 4500000.0), 4326);
-/// let err = decode_valid(&blob).unwrap_err().to_string();
+/// let err = decode_valid(&blob, &Never).unwrap_err().to_string();
 /// assert!(err.contains("look projected"));
 /// ```
-pub fn decode_valid(buf: &[u8]) -> Result<Decoded, GeomError> {
+pub fn decode_valid(buf: &[u8], stop: &dyn Interrupt) -> Result<Decoded, GeomError> {
     let decoded = decode(buf)?;
-    validate::validate(&decoded.geometry, decoded.srs_id.into())?;
+    validate::validate(&decoded.geometry, decoded.srs_id.into(), stop)?;
     Ok(decoded)
 }
 
@@ -118,10 +124,15 @@ pub fn summary(buf: &[u8]) -> Result<Summary, GeomError> {
     })
 }
 
-/// A GeoPackage blob for a geometry after checking it for `srs_id`;
-/// [`GeomError::TooLarge`] when its bytes cannot be allocated.
-pub fn encode_valid(geometry: &Geometry, srs_id: i32) -> Result<Vec<u8>, GeomError> {
-    validate::validate(geometry, srs_id.into())?;
+/// A GeoPackage blob for a geometry after checking it for `srs_id`
+/// (asking `stop` as [`decode_valid`] does); [`GeomError::TooLarge`] when
+/// its bytes cannot be allocated.
+pub fn encode_valid(
+    geometry: &Geometry,
+    srs_id: i32,
+    stop: &dyn Interrupt,
+) -> Result<Vec<u8>, GeomError> {
+    validate::validate(geometry, srs_id.into(), stop)?;
     gpkg::try_write(geometry, srs_id)
 }
 
@@ -167,12 +178,12 @@ mod tests {
     fn decode_valid_applies_the_semantics_checks() {
         let projected = gpkg::write(&Geometry::point(500000.0, 4500000.0), 4326);
         assert!(matches!(
-            decode_valid(&projected),
+            decode_valid(&projected, &crate::interrupt::Never),
             Err(GeomError::OutOfRange { .. })
         ));
         let web = gpkg::write(&Geometry::point(1.0, 1.0), 3857);
         assert_eq!(
-            decode_valid(&web),
+            decode_valid(&web, &crate::interrupt::Never),
             Err(GeomError::UnsupportedSrs { srs_id: 3857 })
         );
         // Describing a blob still works whatever its reference system.

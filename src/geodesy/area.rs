@@ -12,6 +12,8 @@
 //! degrees; only x and y are used.
 
 use super::inverse::{distance, valid, wgs84};
+use crate::error::GeomError;
+use crate::interrupt::{cost, Never, Pacer};
 use geographiclib_rs::{PolygonArea, Winding};
 
 /// Signed geodesic area and perimeter of one ring.
@@ -43,27 +45,39 @@ use geographiclib_rs::{PolygonArea, Winding};
 /// References: C. F. F. Karney, "Algorithms for geodesics", J. Geodesy
 /// 87:43–55 (2013), section 6, doi 10.1007/s00190-012-0578-z.
 pub fn ring_area_perimeter(coords: &[f64], width: usize) -> (f64, f64) {
+    ring_area_perimeter_until(coords, width, &mut Pacer::new(&Never))
+        .unwrap_or((f64::NAN, f64::NAN))
+}
+
+/// [`ring_area_perimeter`], charging `pace` an inverse per vertex:
+/// `Err(GeomError::Interrupted)` when it says stop (the only error).
+pub fn ring_area_perimeter_until(
+    coords: &[f64],
+    width: usize,
+    pace: &mut Pacer,
+) -> Result<(f64, f64), GeomError> {
     if !(2..=4).contains(&width) || !coords.len().is_multiple_of(width) {
-        return (f64::NAN, f64::NAN);
+        return Ok((f64::NAN, f64::NAN));
     }
     let g = wgs84();
     let mut pa = PolygonArea::new(g, Winding::CounterClockwise);
     let n = coords.len() / width;
     for v in coords.chunks_exact(width) {
+        pace.spend(cost::INVERSE)?;
         let (lon, lat) = (v[0], v[1]);
         if !valid(lon, lat) {
-            return (f64::NAN, f64::NAN);
+            return Ok((f64::NAN, f64::NAN));
         }
         pa.add_point(lat, lon);
     }
     if n == 0 {
-        return (0.0, 0.0);
+        return Ok((0.0, 0.0));
     }
     let (perimeter, area, _count) = pa.compute(true);
     if n < 3 {
-        return (0.0, perimeter);
+        return Ok((0.0, perimeter));
     }
-    (area, perimeter)
+    Ok((area, perimeter))
 }
 
 /// Geodesic length of a line (sum of the geodesic lengths of its edges).
@@ -81,22 +95,29 @@ pub fn ring_area_perimeter(coords: &[f64], width: usize) -> (f64, f64) {
 /// References: C. F. F. Karney, "Algorithms for geodesics", J. Geodesy
 /// 87:43–55 (2013), doi 10.1007/s00190-012-0578-z.
 pub fn line_length(coords: &[f64], width: usize) -> f64 {
+    line_length_until(coords, width, &mut Pacer::new(&Never)).unwrap_or(f64::NAN)
+}
+
+/// [`line_length`], charging `pace` an inverse per vertex:
+/// `Err(GeomError::Interrupted)` when it says stop (the only error).
+pub fn line_length_until(coords: &[f64], width: usize, pace: &mut Pacer) -> Result<f64, GeomError> {
     if !(2..=4).contains(&width) || !coords.len().is_multiple_of(width) {
-        return f64::NAN;
+        return Ok(f64::NAN);
     }
     let mut total = 0.0;
     let mut prev: Option<(f64, f64)> = None;
     for v in coords.chunks_exact(width) {
+        pace.spend(cost::INVERSE)?;
         let (lon, lat) = (v[0], v[1]);
         if !valid(lon, lat) {
-            return f64::NAN;
+            return Ok(f64::NAN);
         }
         if let Some((plon, plat)) = prev {
             total += distance(plon, plat, lon, lat);
         }
         prev = Some((lon, lat));
     }
-    total
+    Ok(total)
 }
 
 // The area of a whole geometry (its polygons under the even-odd rule,
@@ -110,15 +131,36 @@ pub fn line_length(coords: &[f64], width: usize) -> f64 {
 ///
 /// Accuracy: Karney's inverse, 15 nm per edge (Karney 2013).
 pub fn geometry_length(g: &crate::geometry::Geometry) -> f64 {
+    geometry_length_until(g, &mut Pacer::new(&Never)).unwrap_or(f64::NAN)
+}
+
+/// [`geometry_length`], charging `pace` an inverse per vertex:
+/// `Err(GeomError::Interrupted)` when it says stop (the only error).
+pub fn geometry_length_until(
+    g: &crate::geometry::Geometry,
+    pace: &mut Pacer,
+) -> Result<f64, GeomError> {
     use crate::geometry::Shape;
     let width = g.dims.width();
-    let rings = |rings: &[Vec<f64>]| -> f64 { rings.iter().map(|r| line_length(r, width)).sum() };
+    let mut total = 0.0;
     match &g.shape {
-        Shape::LineString(p) => line_length(p, width),
-        Shape::MultiLineString(lines) => lines.iter().map(|p| line_length(p, width)).sum(),
-        Shape::Polygon(r) => rings(r),
-        Shape::MultiPolygon(polygons) => polygons.iter().map(|r| rings(r)).sum(),
-        Shape::GeometryCollection(members) => members.iter().map(geometry_length).sum(),
-        _ => 0.0,
+        Shape::LineString(p) => total += line_length_until(p, width, pace)?,
+        Shape::MultiLineString(parts) | Shape::Polygon(parts) => {
+            for p in parts {
+                total += line_length_until(p, width, pace)?;
+            }
+        }
+        Shape::MultiPolygon(polygons) => {
+            for p in polygons.iter().flatten() {
+                total += line_length_until(p, width, pace)?;
+            }
+        }
+        Shape::GeometryCollection(members) => {
+            for m in members {
+                total += geometry_length_until(m, pace)?;
+            }
+        }
+        _ => {}
     }
+    Ok(total)
 }

@@ -19,6 +19,7 @@
 
 use crate::error::GeomError;
 use crate::geometry::{Geometry, Shape};
+use crate::interrupt::Interrupt;
 
 /// The spatial reference identifiers ambit reads as WGS84 longitude/latitude.
 pub const ACCEPTED_SRS: [i64; 4] = [4326, 4269, 0, -1];
@@ -41,12 +42,16 @@ pub fn check_srs(srs_id: i64) -> Result<(), GeomError> {
 /// Checks the spatial reference, every vertex and every ring, then that
 /// every polygon means one area ([`crate::proximity::validity::check`]:
 /// no crossing edges, holes inside their exterior and not nested,
-/// polygons of a multipolygon apart).
-pub fn validate(geometry: &Geometry, srs_id: i64) -> Result<(), GeomError> {
+/// polygons of a multipolygon apart). The polygon checks ask `stop`
+/// after every millisecond or so of work (about 2 µs a vertex for a
+/// polygon that is not a small star-shaped ring) and return
+/// `Err(GeomError::Interrupted)` when it says stop; the vertex checks
+/// before them take nanoseconds a vertex.
+pub fn validate(geometry: &Geometry, srs_id: i64, stop: &dyn Interrupt) -> Result<(), GeomError> {
     check_srs(srs_id)?;
     let mut vertex = 0usize;
     check_shape(geometry, &mut vertex)?;
-    crate::proximity::validity::check(geometry)
+    crate::proximity::validity::check(geometry, stop)
 }
 
 fn check_shape(g: &Geometry, vertex: &mut usize) -> Result<(), GeomError> {
@@ -116,6 +121,7 @@ fn check_vertices(part: &[f64], width: usize, vertex: &mut usize) -> Result<(), 
 mod tests {
     use super::*;
     use crate::geometry::Dimensions;
+    use crate::interrupt::Never;
 
     fn polygon(ring: Vec<f64>) -> Geometry {
         Geometry::new(Dimensions::Xy, Shape::Polygon(vec![ring]))
@@ -125,11 +131,11 @@ mod tests {
     fn accepts_longitude_latitude_references_only() {
         let g = Geometry::point(-100.0, 40.0);
         for srs in ACCEPTED_SRS {
-            assert_eq!(validate(&g, srs), Ok(()));
+            assert_eq!(validate(&g, srs, &Never), Ok(()));
         }
         for srs in [3857, 5070, 32614, 4267] {
             assert_eq!(
-                validate(&g, srs),
+                validate(&g, srs, &Never),
                 Err(GeomError::UnsupportedSrs { srs_id: srs })
             );
         }
@@ -139,50 +145,50 @@ mod tests {
     fn refuses_projected_and_corrupt_coordinates() {
         let projected = Geometry::point(500000.0, 4500000.0);
         assert!(matches!(
-            validate(&projected, 4326),
+            validate(&projected, 4326, &Never),
             Err(GeomError::OutOfRange { vertex: 1, .. })
         ));
         let lat95 = Geometry::point(10.0, 95.0);
         assert!(matches!(
-            validate(&lat95, 4326),
+            validate(&lat95, 4326, &Never),
             Err(GeomError::OutOfRange { .. })
         ));
         let nan = Geometry::point(f64::NAN, 1.0);
         assert_eq!(
-            validate(&nan, 4326),
+            validate(&nan, 4326, &Never),
             Err(GeomError::NotFinite { vertex: 1 })
         );
         let inf = Geometry::point(1.0, f64::INFINITY);
         assert_eq!(
-            validate(&inf, 4326),
+            validate(&inf, 4326, &Never),
             Err(GeomError::NotFinite { vertex: 1 })
         );
         // Boundaries are inside.
-        assert_eq!(validate(&Geometry::point(540.0, -90.0), 0), Ok(()));
-        assert_eq!(validate(&Geometry::point(-540.0, 90.0), -1), Ok(()));
+        assert_eq!(validate(&Geometry::point(540.0, -90.0), 0, &Never), Ok(()));
+        assert_eq!(validate(&Geometry::point(-540.0, 90.0), -1, &Never), Ok(()));
     }
 
     #[test]
     fn refuses_short_and_open_rings_and_one_point_lines() {
         let short = polygon(vec![0.0, 0.0, 1.0, 0.0, 0.0, 0.0]);
         assert_eq!(
-            validate(&short, 4326),
+            validate(&short, 4326, &Never),
             Err(GeomError::RingTooShort { ring: 1, points: 3 })
         );
         let open = polygon(vec![0.0, 0.0, 1.0, 0.0, 1.0, 1.0, 0.0, 1.0]);
         assert_eq!(
-            validate(&open, 4326),
+            validate(&open, 4326, &Never),
             Err(GeomError::RingNotClosed { ring: 1 })
         );
         let ok = polygon(vec![0.0, 0.0, 1.0, 0.0, 1.0, 1.0, 0.0, 0.0]);
-        assert_eq!(validate(&ok, 4326), Ok(()));
+        assert_eq!(validate(&ok, 4326, &Never), Ok(()));
         let line = Geometry::new(Dimensions::Xy, Shape::LineString(vec![1.0, 1.0]));
         assert_eq!(
-            validate(&line, 4326),
+            validate(&line, 4326, &Never),
             Err(GeomError::LineTooShort { points: 1 })
         );
         let empty_line = Geometry::new(Dimensions::Xy, Shape::LineString(vec![]));
-        assert_eq!(validate(&empty_line, 4326), Ok(()));
+        assert_eq!(validate(&empty_line, 4326, &Never), Ok(()));
     }
 
     #[test]
@@ -192,7 +198,7 @@ mod tests {
             Shape::MultiPoint(vec![vec![1.0, 1.0], vec![], vec![2.0, 91.0]]),
         );
         assert!(matches!(
-            validate(&g, 4326),
+            validate(&g, 4326, &Never),
             Err(GeomError::OutOfRange { vertex: 2, .. })
         ));
     }

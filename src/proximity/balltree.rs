@@ -54,7 +54,7 @@ pub const FAN: usize = 8;
 pub const TIGHT_FROM: f64 = 20_000.0;
 
 /// Groups built between two interrupt checks.
-const CHECK_EVERY: usize = 1 << 14;
+const CHECK_EVERY: usize = 1 << 10;
 
 /// One node: `level` 0 is the element `index`, level `k >= 1` the group
 /// `index` of that level.

@@ -28,7 +28,7 @@ use std::ops::ControlFlow;
 
 use crate::error::GeomError;
 use crate::geodesy::{inverse, local, segment};
-use crate::interrupt::{Interrupt, Never};
+use crate::interrupt::{cost, Interrupt, Never, Pacer};
 use crate::proximity::balltree::{tight_gap, BallTree, Node, TIGHT_FROM};
 use crate::proximity::boxes::LonLatBox;
 use crate::proximity::contain::point_in_prepared;
@@ -224,8 +224,9 @@ fn settled_by_balls(a: &Prepared, b: &Prepared, cap: f64, work: &mut Work) -> Op
 /// any distance found that is at most `cap`. A result above `cap` means
 /// the minimum is above `cap` (the value itself is then only a bound).
 ///
-/// `stop` is asked every [`EXACT_PER_CHECK`] exact element distances (the
-/// costly part: near the antipode of a large geometry the bounds prune
+/// `stop` is asked after every millisecond or so of work ([`Pacer`]: the
+/// candidate pairs, their flat bounds, and the exact element distances,
+/// the costly part: near the antipode of a large geometry the bounds prune
 /// little and every edge may need Karney's inverse).
 fn search(
     a: &Prepared,
@@ -245,8 +246,14 @@ fn search(
         return Ok(best);
     }
     let reach = cap.min(best);
+    let mut pace = Pacer::new(stop);
+    let mut stopped = Ok(());
     let mut pairs: Vec<(f64, usize, usize)> = Vec::new();
     let early = for_each_candidate(a, b, reach, |i, j| {
+        if let Err(e) = pace.spend(cost::FLAT) {
+            stopped = Err(e);
+            return ControlFlow::Break(f64::NAN);
+        }
         let (ba, bb) = (&a.balls[i], &b.balls[j]);
         let lower = ba.gap(bb).max(0.0);
         if lower > reach.min(best) {
@@ -266,12 +273,14 @@ fn search(
         pairs.push((lower, i, j));
         ControlFlow::Continue(())
     });
+    stopped?;
     if let Some(found) = early {
         return Ok(found);
     }
+    pace.check()?;
     pairs.sort_unstable_by(|x, y| x.0.total_cmp(&y.0).then(x.1.cmp(&y.1)).then(x.2.cmp(&y.2)));
+    pace.check()?;
     let mut best_exact = f64::INFINITY;
-    let mut exact_since_check = 0u32;
     for (lower, i, j) in pairs {
         // No later pair can beat the best exact distance found, nor the
         // vertex upper bound (the minimum's pair has a lower bound at most
@@ -281,6 +290,7 @@ fn search(
         }
         // The flat frame's bounds settle most pairs without the exact
         // computation: within reach for sure, or no better than known.
+        pace.spend(cost::FLAT)?;
         let (ea, eb) = (&a.element(i), &b.element(j));
         let (flat_lo, flat_up) = flat_bounds(ea, eb);
         if first_hit && flat_up <= cap {
@@ -291,11 +301,7 @@ fn search(
             continue;
         }
         work.exact += 1;
-        exact_since_check += 1;
-        if exact_since_check == EXACT_PER_CHECK {
-            exact_since_check = 0;
-            stop.check()?;
-        }
+        pace.spend(cost::EXACT)?;
         let d = exact(ea, eb);
         best_exact = best_exact.min(d);
         if first_hit && best_exact <= cap {
@@ -338,9 +344,6 @@ impl Ord for Pending {
     }
 }
 
-/// Nodes popped between two questions to the interrupt.
-const POPS_PER_CHECK: u32 = 4096;
-
 /// The minimum distance between `a` and `b` when it is at most `cap`, by a
 /// best-first search over both geometries' ball trees
 /// ([`crate::proximity::balltree`]; `ta` and `tb`, built over `a`'s and
@@ -360,7 +363,9 @@ const POPS_PER_CHECK: u32 = 4096;
 /// a feature every element is at nearly the same distance and most are
 /// looked at, as in any search by distance bounds.
 ///
-/// Asks `stop` every 64 exact element distances and every 4096 node pairs.
+/// Asks `stop` after every millisecond or so of work ([`Pacer`]: a node
+/// pair popped, a Karney inverse between centres, an exact element
+/// distance, each charged its worst-case cost).
 pub fn nearest_between(
     a: &Prepared,
     ta: &BallTree,
@@ -386,23 +391,20 @@ pub fn nearest_between(
     });
     let mut best_exact = f64::INFINITY;
     let mut upper = f64::INFINITY;
-    let (mut exact_since_check, mut pops) = (0u32, 0u32);
+    let mut pace = Pacer::new(stop);
     while let Some(item) = queue.pop() {
         let bound = best_exact.min(upper).min(cap);
         if item.key > bound {
             break;
         }
-        pops += 1;
-        if pops == POPS_PER_CHECK {
-            pops = 0;
-            stop.check()?;
-        }
+        pace.spend(cost::FLAT)?;
         let (ba, bb) = (ta.core(item.a, a), tb.core(item.b, b));
         if !item.tight {
             // The (lon, lat) centres are derived only where tight_gap asks
             // Karney's inverse.
             let far = item.key.is_finite() && chord_lower(&ba.centre(), &bb.centre()) >= TIGHT_FROM;
             let key = if far {
+                pace.spend(cost::INVERSE)?;
                 tight_gap(&ta.ball(item.a, a), &tb.ball(item.b, b), item.key)
             } else {
                 item.key
@@ -427,11 +429,7 @@ pub fn nearest_between(
             if flat_lo > best_exact.min(upper).min(cap) {
                 continue;
             }
-            exact_since_check += 1;
-            if exact_since_check == EXACT_PER_CHECK {
-                exact_since_check = 0;
-                stop.check()?;
-            }
+            pace.spend(cost::EXACT)?;
             best_exact = best_exact.min(exact(ea, eb));
             if best_exact == 0.0 {
                 break;
@@ -473,11 +471,6 @@ pub fn nearest_between(
     }
     Ok(best_exact)
 }
-
-/// How many exact element distances pass between two questions to the
-/// interrupt (each takes a few microseconds, up to about 100 near the
-/// antipode).
-const EXACT_PER_CHECK: u32 = 64;
 
 /// The geodesic minimum distance between two geometries in metres; `None`
 /// when either is empty. 0 when they touch, cross or one contains the

@@ -22,7 +22,7 @@ use crate::memory;
 use crate::proximity::balltree::{space_box, BallTree, TIGHT_FROM};
 use crate::proximity::boxes::LonLatBox;
 use crate::proximity::distance::{
-    distance_within, distance_within_interruptible, nearest_between, within, within_interruptible,
+    distance_within_interruptible, nearest_between, within, within_interruptible,
 };
 use crate::proximity::prepared::{f32_up, tree_bytes, wrap_delta, Ball, Prepared};
 use crate::proximity::share::{coverage_share, ShareError};
@@ -614,7 +614,7 @@ impl Layer {
                 stop.check()?;
             }
             let f = &self.features[i];
-            if within(g, &f.geometry, f.reach) {
+            if within_interruptible(g, &f.geometry, f.reach, stop)? {
                 reaching.push(f);
             }
         }
@@ -679,16 +679,35 @@ impl Layer {
     /// `(feature id, distance in metres)` of every feature within its reach
     /// of `g` (or within `metres`), nearest first, ties by id.
     pub fn near(&self, g: &Prepared, metres: Option<f64>) -> Vec<(i64, f64)> {
-        let mut out: Vec<(i64, f64)> = self
+        self.near_until(g, metres, &Never).unwrap_or_default()
+    }
+
+    /// [`Layer::near`], reading `stop` between candidates (every
+    /// [`CHECK_CANDIDATES`]) and inside each: `Err(GeomError::Interrupted)`
+    /// when asked to stop.
+    pub fn near_until(
+        &self,
+        g: &Prepared,
+        metres: Option<f64>,
+        stop: &dyn Interrupt,
+    ) -> Result<Vec<(i64, f64)>, GeomError> {
+        let mut out: Vec<(i64, f64)> = Vec::new();
+        for (k, i) in self
             .candidates(g, metres.unwrap_or(0.0))
             .into_iter()
-            .filter_map(|i| {
-                let f = &self.features[i];
-                distance_within(g, &f.geometry, metres.unwrap_or(f.reach)).map(|d| (f.id, d))
-            })
-            .collect();
+            .enumerate()
+        {
+            if k % CHECK_CANDIDATES == CHECK_CANDIDATES - 1 {
+                stop.check()?;
+            }
+            let f = &self.features[i];
+            let cap = metres.unwrap_or(f.reach);
+            if let Some(d) = distance_within_interruptible(g, &f.geometry, cap, stop)? {
+                out.push((f.id, d));
+            }
+        }
         out.sort_by(|x, y| x.1.total_cmp(&y.1).then(x.0.cmp(&y.0)));
-        out
+        Ok(out)
     }
 
     /// The distance in metres from `g` to the nearest feature (reach plays

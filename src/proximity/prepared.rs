@@ -386,9 +386,17 @@ static ONE_ELEMENT: BallTree = BallTree::ONE_ELEMENT;
 /// The (lon, lat) pairs of an interleaved part (a closed ring when
 /// `ring`), in an array allocated fallibly, with vertices at a pole given
 /// the meridian of their edge ([`meridians_at_poles`]).
-fn lonlat(part: &[f64], width: usize, ring: bool) -> Result<Vec<LonLat>, GeomError> {
+fn lonlat(
+    part: &[f64],
+    width: usize,
+    ring: bool,
+    stop: &dyn Interrupt,
+) -> Result<Vec<LonLat>, GeomError> {
     let mut chain = memory::vec_with_capacity(part.len() / width)?;
-    chain.extend(part.chunks_exact(width).map(|v| (v[0], v[1])));
+    for run in part.chunks(width * (CHECK_EVERY / 8)) {
+        stop.check()?;
+        chain.extend(run.chunks_exact(width).map(|v| (v[0], v[1])));
+    }
     if chain.iter().any(|p| at_pole(*p)) {
         Ok(meridians_at_poles(&chain, ring))
     } else {
@@ -457,10 +465,10 @@ struct Gathered {
 }
 
 impl Gathered {
-    fn add(&mut self, g: &Geometry) -> Result<(), GeomError> {
+    fn add(&mut self, g: &Geometry, stop: &dyn Interrupt) -> Result<(), GeomError> {
         let width = g.dims.width();
         let chain = |v: &[f64], ring: bool| -> Result<Chain, GeomError> {
-            Ok(lonlat(v, width, ring)?.into_boxed_slice())
+            Ok(lonlat(v, width, ring, stop)?.into_boxed_slice())
         };
         let add_polygon = |rings: &[Vec<f64>], this: &mut Gathered| -> Result<(), GeomError> {
             let mut out: Vec<Chain> = memory::vec_with_capacity(rings.len())?;
@@ -505,7 +513,7 @@ impl Gathered {
             }
             Shape::GeometryCollection(members) => {
                 for m in members {
-                    self.add(m)?;
+                    self.add(m, stop)?;
                 }
             }
         }
@@ -531,7 +539,7 @@ impl Prepared {
     /// changed either way.
     pub fn build(g: &Geometry, stop: &dyn Interrupt) -> Result<Prepared, GeomError> {
         let mut gathered = Gathered::default();
-        gathered.add(g)?;
+        gathered.add(g, stop)?;
         Prepared::index(gathered, stop)
     }
 
@@ -585,7 +593,10 @@ impl Prepared {
         let mut edges = |chain: &[LonLat], out: &mut Vec<BallCore>| -> Result<(), GeomError> {
             xyz.clear();
             memory::reserve(&mut xyz, chain.len())?;
-            xyz.extend(chain.iter().map(|&p| ecef(p)));
+            for run in chain.chunks(CHECK_EVERY / 8) {
+                stop.check()?;
+                xyz.extend(run.iter().map(|&p| ecef(p)));
+            }
             for k in 0..chain.len().saturating_sub(1) {
                 if k % CHECK_EVERY == CHECK_EVERY - 1 {
                     stop.check()?;
@@ -646,8 +657,10 @@ impl Prepared {
             if let (Some(parts), Some(bbox)) = (&mut p.parts, bbox) {
                 parts.bbox = bbox;
             }
+            stop.check()?;
         }
         p.ball = whole_ball(&p);
+        stop.check()?;
         if p.balls.len() > ELEMENT_INDEX_MIN {
             p.add_ball_tree(stop)?;
         }

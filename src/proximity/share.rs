@@ -69,12 +69,12 @@ use geographiclib_rs::DirectGeodesic;
 use rstar::Envelope;
 
 use crate::error::GeomError;
-use crate::geodesy::area::ring_area_perimeter;
+use crate::geodesy::area::ring_area_perimeter_until;
 use crate::geodesy::ellipsoid::{A, E2};
 use crate::geodesy::frame::AzimuthalFrame;
 use crate::geodesy::inverse::{inverse, wgs84};
 use crate::geometry::Geometry;
-use crate::interrupt::Interrupt;
+use crate::interrupt::{Interrupt, Pacer};
 use crate::proximity::boxes::LonLatBox;
 use crate::proximity::contain::point_in_prepared;
 use crate::proximity::distance::{distance_within, within};
@@ -173,14 +173,15 @@ pub fn coverage_share(
 /// The share of a polygon too large for one plane: its pieces
 /// ([`crate::proximity::pieces`]) measured each in its own plane, their
 /// covered areas summed and divided by `g`'s geodesic area (Karney's,
-/// [`ring_area_perimeter`]). Pieces that no feature reaches are never
+/// [`ring_area_perimeter`](crate::geodesy::area::ring_area_perimeter)).
+/// Pieces that no feature reaches are never
 /// projected.
 fn in_pieces(
     g: &Prepared,
     reaching: &[&Feature],
     stop: &dyn Interrupt,
 ) -> Result<Option<f64>, ShareError> {
-    let area = geodesic_area(g);
+    let area = geodesic_area(g, stop)?;
     if area.is_nan() || area <= 0.0 {
         return Ok(None);
     }
@@ -236,26 +237,19 @@ fn boxes_meet(a: &LonLatBox, b: &LonLatBox) -> bool {
 }
 
 /// Geodesic area of `g`'s polygons (each exterior less its holes), square
-/// metres.
-fn geodesic_area(g: &Prepared) -> f64 {
-    g.polygons()
-        .iter()
-        .map(|rings| {
-            rings
-                .iter()
-                .enumerate()
-                .map(|(i, ring)| {
-                    let flat: Vec<f64> = ring.iter().flat_map(|p| [p.0, p.1]).collect();
-                    let a = ring_area_perimeter(&flat, 2).0.abs();
-                    if i == 0 {
-                        a
-                    } else {
-                        -a
-                    }
-                })
-                .sum::<f64>()
-        })
-        .sum()
+/// metres; asks `stop` about every millisecond of work (Karney's area adds
+/// an inverse per edge).
+fn geodesic_area(g: &Prepared, stop: &dyn Interrupt) -> Result<f64, GeomError> {
+    let mut pace = Pacer::new(stop);
+    let mut total = 0.0;
+    for rings in g.polygons() {
+        for (i, ring) in rings.iter().enumerate() {
+            let flat: Vec<f64> = ring.iter().flat_map(|p| [p.0, p.1]).collect();
+            let a = ring_area_perimeter_until(&flat, 2, &mut pace)?.0.abs();
+            total += if i == 0 { a } else { -a };
+        }
+    }
+    Ok(total)
 }
 
 /// The integrals of one plane: area of `g` and covered area (square

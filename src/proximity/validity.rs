@@ -72,10 +72,12 @@
 use geographiclib_rs::InverseGeodesic;
 
 use crate::error::{GeomError, PolygonProblem};
-use crate::geodesy::area::ring_area_perimeter;
+use crate::geodesy::area::ring_area_perimeter_until;
 use crate::geodesy::inverse;
 use crate::geodesy::segment::{GeodesicSegment, TOUCH_TOLERANCE};
 use crate::geometry::{Geometry, Shape};
+use crate::interrupt::{cost, Interrupt, Never, Pacer};
+use crate::memory::FreeLater;
 use crate::proximity::contain::point_in_ring;
 use crate::proximity::prepared::{at_pole, wrap_delta, LonLat};
 
@@ -88,6 +90,12 @@ const GRID_MIN_EDGES: usize = 256;
 const POLAR_LAT: f64 = 80.0;
 /// The flat frame judges only pairs of edges shorter than this (degrees).
 const FLAT_MAX_DEG: f64 = 1.0;
+/// Temporaries of at least this many items (vertices, edges, cells) are
+/// freed in the background ([`FreeLater`]).
+const FREE_LATER_MIN: usize = 1 << 16;
+/// Vertices or cells handled in one go between two charges to the
+/// [`Pacer`] in passes that cost nanoseconds a vertex.
+const RUN: usize = 1024;
 /// Directions closer than this (degrees) at a touching point are taken as
 /// the same direction (passages along a shared edge do not cross).
 const SAME_DIRECTION_DEG: f64 = 1e-9;
@@ -133,8 +141,12 @@ enum Contact {
 /// collection): refuses crossings, holes outside their exterior, nested
 /// holes and overlapping polygons with [`GeomError::InvalidPolygon`].
 /// Expects coordinates that passed the range checks of
-/// [`crate::geometry::validate`].
-pub fn check(g: &Geometry) -> Result<(), GeomError> {
+/// [`crate::geometry::validate`]. Asks `stop` after every millisecond or
+/// so of work ([`Pacer`]; [`Never`] for callers that cannot be
+/// interrupted) and returns `Err(GeomError::Interrupted)` when it says
+/// stop.
+pub fn check(g: &Geometry, stop: &dyn Interrupt) -> Result<(), GeomError> {
+    let mut pace = Pacer::new(stop);
     if let Shape::Polygon(rings) = &g.shape {
         if rings.len() == 1 && star_shaped(&rings[0], g.dims.width()) {
             return Ok(());
@@ -146,10 +158,11 @@ pub fn check(g: &Geometry) -> Result<(), GeomError> {
         return Ok(());
     }
     let width = g.dims.width();
-    let mut rings = Vec::new();
+    let big = g.vertex_count() >= FREE_LATER_MIN;
+    let mut rings = FreeLater::new(Vec::new(), big);
     for (pi, poly) in polygons.iter().enumerate() {
         for (ri, raw) in poly.iter().enumerate() {
-            let v = clean(raw, width);
+            let v = clean(raw, width, &mut pace)?;
             if v.len() >= 2 {
                 rings.push(Ring {
                     polygon: pi + 1,
@@ -159,13 +172,13 @@ pub fn check(g: &Geometry) -> Result<(), GeomError> {
             }
         }
     }
-    let touches = crossings(&rings)?;
+    let touches = crossings(&rings, &mut pace)?;
     if touches.points.is_empty() && rings.len() == 1 {
         return Ok(());
     }
-    shared_edges(&rings)?;
-    let loops = loops_of(&rings, &touches);
-    nesting(&rings, &loops, &touches)?;
+    shared_edges(&rings, &mut pace)?;
+    let loops = loops_of(&rings, &touches, &mut pace)?;
+    nesting(&rings, &loops, &touches, &mut pace)?;
     Ok(())
 }
 
@@ -176,7 +189,7 @@ pub fn check(g: &Geometry) -> Result<(), GeomError> {
 /// opposite sides (neighbours along an edge) are left to the other checks.
 /// Rings around a pole or of no area have no orientation here and are
 /// skipped.
-fn shared_edges(rings: &[Ring]) -> Result<(), GeomError> {
+fn shared_edges(rings: &[Ring], pace: &mut Pacer) -> Result<(), GeomError> {
     if rings.len() < 2 {
         return Ok(());
     }
@@ -198,6 +211,7 @@ fn shared_edges(rings: &[Ring]) -> Result<(), GeomError> {
             continue;
         };
         for w in r.v.windows(2) {
+            pace.spend(cost::FLAT)?;
             let (a, b) = (key(w[0].p), key(w[1].p));
             if a == b {
                 continue;
@@ -266,7 +280,7 @@ fn orientation(r: &Ring) -> Option<bool> {
 /// geometries.
 ///
 /// Units: square metres. Accuracy: Karney's area series, round-off level
-/// (Karney 2013, section 6, via [`ring_area_perimeter`]); for a polygon
+/// (Karney 2013, section 6, via [`ring_area_perimeter`](crate::geodesy::area::ring_area_perimeter)); for a polygon
 /// without touching rings it is |exterior| minus the holes.
 ///
 /// NULL/NaN: NaN for coordinates that fail the range checks. Never panics.
@@ -274,37 +288,46 @@ fn orientation(r: &Ring) -> Option<bool> {
 /// References: C. F. F. Karney, "Algorithms for geodesics", J. Geodesy
 /// 87:43–55 (2013), section 6, doi 10.1007/s00190-012-0578-z.
 pub fn area(g: &Geometry) -> f64 {
+    area_until(g, &Never).unwrap_or(f64::NAN)
+}
+
+/// [`area`], asking `stop` after every millisecond or so of work:
+/// `Err(GeomError::Interrupted)` when it says stop (the only error).
+pub fn area_until(g: &Geometry, stop: &dyn Interrupt) -> Result<f64, GeomError> {
+    let mut pace = Pacer::new(stop);
     let mut polygons = Vec::new();
     collect_polygons(g, &mut polygons);
     let width = g.dims.width();
     let mut total = 0.0;
     for (pi, poly) in polygons.iter().enumerate() {
-        let rings: Vec<Ring> = poly
-            .iter()
-            .enumerate()
-            .map(|(ri, raw)| Ring {
-                polygon: pi + 1,
-                ring: ri + 1,
-                v: clean(raw, width),
-            })
-            .filter(|r| r.v.len() >= 2)
-            .collect();
+        let mut rings: Vec<Ring> = Vec::with_capacity(poly.len());
+        for (ri, raw) in poly.iter().enumerate() {
+            let v = clean(raw, width, &mut pace)?;
+            if v.len() >= 2 {
+                rings.push(Ring {
+                    polygon: pi + 1,
+                    ring: ri + 1,
+                    v,
+                });
+            }
+        }
         if rings.is_empty() {
             continue;
         }
-        let touches = match crossings(&rings) {
+        let touches = match crossings(&rings, &mut pace) {
             Ok(t) => t,
-            Err(_) => return f64::NAN,
+            Err(GeomError::Interrupted) => return Err(GeomError::Interrupted),
+            Err(_) => return Ok(f64::NAN),
         };
-        let loops = loops_of(&rings, &touches);
-        let depths = depths(&loops, &touches);
+        let loops = loops_of(&rings, &touches, &mut pace)?;
+        let depths = depths(&loops, &touches, &mut pace)?;
         for (l, depth) in loops.iter().zip(depths) {
             let flat: Vec<f64> = l.points.iter().flat_map(|p| [p.0, p.1]).collect();
-            let a = ring_area_perimeter(&flat, 2).0.abs();
+            let a = ring_area_perimeter_until(&flat, 2, &mut pace)?.0.abs();
             total += if depth % 2 == 0 { a } else { -a };
         }
     }
-    total
+    Ok(total)
 }
 
 /// The fast path for the common case, a small ring that is star-shaped
@@ -389,9 +412,10 @@ fn collect_polygons<'a>(g: &'a Geometry, out: &mut Vec<&'a [Vec<f64>]>) {
 /// The ring's vertices, numbered, without repeated consecutive points, with
 /// the meridian of its edge given to each pole vertex (as
 /// [`crate::proximity::prepared::meridians_at_poles`] does), closed.
-fn clean(raw: &[f64], width: usize) -> Vec<Vertex> {
+fn clean(raw: &[f64], width: usize, pace: &mut Pacer) -> Result<Vec<Vertex>, GeomError> {
     let mut v: Vec<Vertex> = Vec::with_capacity(raw.len() / width);
     for (i, c) in raw.chunks_exact(width).enumerate() {
+        pace.step()?;
         let p = (c[0], c[1]);
         if v.last().is_some_and(|l| l.p == p) {
             continue;
@@ -399,7 +423,7 @@ fn clean(raw: &[f64], width: usize) -> Vec<Vertex> {
         v.push(Vertex { p, number: i + 1 });
     }
     if !v.iter().any(|x| at_pole(x.p)) {
-        return v;
+        return Ok(v);
     }
     let mut out: Vec<Vertex> = Vec::with_capacity(v.len() + 4);
     for w in v.windows(2) {
@@ -417,7 +441,7 @@ fn clean(raw: &[f64], width: usize) -> Vec<Vertex> {
     if out.first().map(|f| f.p) != out.last().map(|l| l.p) {
         out.push(out[0]);
     }
-    out
+    Ok(out)
 }
 
 /// The box of the geodesic edge a-b: longitudes exact (monotonic along a
@@ -475,10 +499,12 @@ fn edge_box(a: LonLat, b: LonLat, ring: usize, k: usize) -> Edge {
 /// Finds every pair of edges that meet; refuses crossings; returns the
 /// touching points (sorted, without repeats) and, for each, the edges
 /// that pass through it away from their ends (ring, edge).
-fn crossings(rings: &[Ring]) -> Result<Touches, GeomError> {
-    let mut edges: Vec<Edge> = Vec::new();
+fn crossings(rings: &[Ring], pace: &mut Pacer) -> Result<Touches, GeomError> {
+    let big = rings.iter().map(|r| r.v.len()).sum::<usize>() >= FREE_LATER_MIN;
+    let mut edges: FreeLater<Vec<Edge>> = FreeLater::new(Vec::new(), big);
     for (ri, r) in rings.iter().enumerate() {
         for k in 0..r.v.len() - 1 {
+            pace.spend(cost::FLAT)?;
             let (a, b) = (r.v[k].p, r.v[k + 1].p);
             if at_pole(a) && at_pole(b) && a.1 == b.1 {
                 continue; // a step along the pole: a point
@@ -497,8 +523,16 @@ fn crossings(rings: &[Ring]) -> Result<Touches, GeomError> {
         }
     }
     let mut touches = Touches::default();
-    let frame = if edges.len() > 64 { frame(rings) } else { None };
-    let mut visit = |x: &Edge, e: &Edge| -> Result<(), GeomError> {
+    let frame = FreeLater::new(
+        if edges.len() > 64 {
+            frame(rings, pace)?
+        } else {
+            None
+        },
+        big,
+    );
+    let mut visit = |x: &Edge, e: &Edge, pace: &mut Pacer| -> Result<(), GeomError> {
+        pace.step()?;
         if x.lat_hi < e.lat_lo || e.lat_hi < x.lat_lo || x.lon_hi < e.lon_lo || e.lon_hi < x.lon_lo
         {
             return Ok(());
@@ -511,18 +545,18 @@ fn crossings(rings: &[Ring]) -> Result<Touches, GeomError> {
         } else {
             (e, x)
         };
-        meet(rings, frame.as_ref(), first, second, &mut touches)
+        meet(rings, frame.as_ref(), first, second, &mut touches, pace)
     };
     if edges.len() > GRID_MIN_EDGES {
-        grid_pairs(&edges, &mut visit)?;
+        grid_pairs(&edges, &mut visit, pace)?;
     } else {
-        sweep_pairs(&edges, &mut visit)?;
+        sweep_pairs(&edges, &mut visit, pace)?;
     }
     touches
         .points
         .sort_unstable_by(|p, q| p.0.total_cmp(&q.0).then(p.1.total_cmp(&q.1)));
     touches.points.dedup();
-    passages_cross(rings, &touches)?;
+    passages_cross(rings, &touches, pace)?;
     Ok(touches)
 }
 
@@ -530,7 +564,8 @@ fn crossings(rings: &[Ring]) -> Result<Touches, GeomError> {
 /// sort by the west end, sweep eastwards keeping the edges not yet passed.
 fn sweep_pairs(
     edges: &[Edge],
-    visit: &mut impl FnMut(&Edge, &Edge) -> Result<(), GeomError>,
+    visit: &mut impl FnMut(&Edge, &Edge, &mut Pacer) -> Result<(), GeomError>,
+    pace: &mut Pacer,
 ) -> Result<(), GeomError> {
     let mut order: Vec<(f64, u32)> = edges
         .iter()
@@ -540,9 +575,10 @@ fn sweep_pairs(
     order.sort_unstable_by(|x, y| x.0.total_cmp(&y.0));
     let mut active: Vec<&Edge> = Vec::new();
     for e in order.iter().map(|&(_, i)| &edges[i as usize]) {
+        pace.spend((active.len() as u32).saturating_add(1))?;
         active.retain(|x| x.lon_hi >= e.lon_lo);
         for x in &active {
-            visit(x, e)?;
+            visit(x, e, pace)?;
         }
         active.push(e);
     }
@@ -557,7 +593,8 @@ fn sweep_pairs(
 /// sweep of [`sweep_pairs`] can keep thousands of edges active.
 fn grid_pairs(
     edges: &[Edge],
-    visit: &mut impl FnMut(&Edge, &Edge) -> Result<(), GeomError>,
+    visit: &mut impl FnMut(&Edge, &Edge, &mut Pacer) -> Result<(), GeomError>,
+    pace: &mut Pacer,
 ) -> Result<(), GeomError> {
     let finite = |e: &Edge| e.lon_lo > -540.0;
     let (mut x0, mut x1, mut y0, mut y1) = (
@@ -567,6 +604,7 @@ fn grid_pairs(
         f64::NEG_INFINITY,
     );
     for e in edges.iter().filter(|e| finite(e)) {
+        pace.step()?;
         x0 = x0.min(e.lon_lo);
         x1 = x1.max(e.lon_hi);
         y0 = y0.min(e.lat_lo);
@@ -587,9 +625,11 @@ fn grid_pairs(
         )
     };
     let mut wide: Vec<usize> = Vec::new();
-    let mut count = vec![0u32; side * side + 1];
-    let mut ranges = Vec::with_capacity(edges.len());
+    let big = edges.len() >= FREE_LATER_MIN;
+    let mut count = FreeLater::new(vec![0u32; side * side + 1], big);
+    let mut ranges = FreeLater::new(Vec::with_capacity(edges.len()), big);
     for (i, e) in edges.iter().enumerate() {
+        pace.step()?;
         let r = range(e);
         if !finite(e) || (r.1 - r.0 + 1) * (r.3 - r.2 + 1) > 64 {
             wide.push(i);
@@ -604,11 +644,15 @@ fn grid_pairs(
         ranges.push(Some(r));
     }
     for c in 1..count.len() {
+        if c % RUN == 0 {
+            pace.spend(cost::FLAT)?;
+        }
         count[c] += count[c - 1];
     }
-    let mut slots = vec![0u32; count[side * side] as usize];
-    let mut fill = count.clone();
+    let mut slots = FreeLater::new(vec![0u32; count[side * side] as usize], big);
+    let mut fill = FreeLater::new(count.clone(), big);
     for (i, r) in ranges.iter().enumerate() {
+        pace.step()?;
         if let Some(r) = r {
             for cx in r.0..=r.1 {
                 for cy in r.2..=r.3 {
@@ -623,8 +667,10 @@ fn grid_pairs(
         for cy in 0..side {
             let c = cx * side + cy;
             let here = &slots[count[c] as usize..count[c + 1] as usize];
+            pace.step()?;
             for (a, &i) in here.iter().enumerate() {
                 let ei = &edges[i as usize];
+                pace.spend((here.len() - a) as u32)?;
                 for &j in &here[a + 1..] {
                     let ej = &edges[j as usize];
                     if ei.lat_hi < ej.lat_lo
@@ -637,7 +683,7 @@ fn grid_pairs(
                     let (ri, rj) = (ranges[i as usize].unwrap(), ranges[j as usize].unwrap());
                     // Only in the first cell the two boxes share.
                     if ri.0.max(rj.0) == cx && ri.2.max(rj.2) == cy {
-                        visit(ei, ej)?;
+                        visit(ei, ej, pace)?;
                     }
                 }
             }
@@ -645,8 +691,9 @@ fn grid_pairs(
     }
     for (a, &i) in wide.iter().enumerate() {
         for (j, e) in edges.iter().enumerate() {
+            pace.spend((a as u32).saturating_add(1))?;
             if j != i && !wide[..a].contains(&j) {
-                visit(&edges[i], e)?;
+                visit(&edges[i], e, pace)?;
             }
         }
     }
@@ -688,7 +735,9 @@ fn meet(
     x: &Edge,
     y: &Edge,
     touches: &mut Touches,
+    pace: &mut Pacer,
 ) -> Result<(), GeomError> {
+    pace.spend(cost::FLAT)?;
     let (rx, ry) = (&rings[x.ring], &rings[y.ring]);
     let (a1, a2) = (rx.v[x.k].p, rx.v[x.k + 1].p);
     let (b1, b2) = (ry.v[y.k].p, ry.v[y.k + 1].p);
@@ -698,7 +747,10 @@ fn meet(
     });
     let found = match decided {
         Some(c) => c,
-        None => contact(a1, a2, b1, b2),
+        None => {
+            pace.spend(cost::EXACT)?;
+            contact(a1, a2, b1, b2)
+        }
     };
     match found {
         Contact::None => Ok(()),
@@ -833,10 +885,13 @@ struct Frame {
     factor: f64,
 }
 
-fn frame(rings: &[Ring]) -> Option<Frame> {
-    let first = rings.first()?.v.first()?.p;
+fn frame(rings: &[Ring], pace: &mut Pacer) -> Result<Option<Frame>, GeomError> {
+    let Some(first) = rings.first().and_then(|r| r.v.first()).map(|v| v.p) else {
+        return Ok(None);
+    };
     let (mut x0, mut x1, mut y0, mut y1) = (0.0f64, 0.0f64, first.1, first.1);
     for v in rings.iter().flat_map(|r| &r.v) {
+        pace.step()?;
         let x = wrap_delta(first.0, v.p.0);
         x0 = x0.min(x);
         x1 = x1.max(x);
@@ -844,7 +899,7 @@ fn frame(rings: &[Ring]) -> Option<Frame> {
         y1 = y1.max(v.p.1);
     }
     if x1 - x0 > 10.0 || y1 - y0 > 10.0 || y0 < -POLAR_LAT || y1 > POLAR_LAT {
-        return None;
+        return Ok(None);
     }
     let c = (0.5 * (y0 + y1)).to_radians().cos();
     let lat_max = y0.abs().max(y1.abs());
@@ -856,22 +911,23 @@ fn frame(rings: &[Ring]) -> Option<Frame> {
     let (c_lo, c_hi) = (lat_max.to_radians().cos(), lat_min.to_radians().cos());
     let stretch = (c / c_lo).max(c_hi / c);
     let factor = (1.0 + lat_max.to_radians().tan()) * stretch * stretch;
-    let xy = rings
-        .iter()
-        .map(|r| {
-            r.v.iter()
-                .map(|v| (wrap_delta(first.0, v.p.0) * c, v.p.1))
-                .collect()
-        })
-        .collect();
-    Some(Frame { xy, factor })
+    let mut xy = Vec::with_capacity(rings.len());
+    for r in rings {
+        let mut ring = Vec::with_capacity(r.v.len());
+        for run in r.v.chunks(RUN) {
+            pace.spend(cost::FLAT)?;
+            ring.extend(run.iter().map(|v| (wrap_delta(first.0, v.p.0) * c, v.p.1)));
+        }
+        xy.push(ring);
+    }
+    Ok(Some(Frame { xy, factor }))
 }
 
 /// At every touching point, the passages of the boundary through it (a
 /// vertex with its previous and next vertices, or an edge with its ends)
 /// must not interleave: two passages whose directions alternate around the
 /// point cross there.
-fn passages_cross(rings: &[Ring], touches: &Touches) -> Result<(), GeomError> {
+fn passages_cross(rings: &[Ring], touches: &Touches, pace: &mut Pacer) -> Result<(), GeomError> {
     for &p in &touches.points {
         if at_pole(p) {
             continue; // directions at a pole are meridians; edges meet only there
@@ -881,7 +937,9 @@ fn passages_cross(rings: &[Ring], touches: &Touches) -> Result<(), GeomError> {
         for (ri, r) in rings.iter().enumerate() {
             let n = r.v.len() - 1;
             for i in 0..n {
+                pace.step()?;
                 if r.v[i].p == p {
+                    pace.spend(2 * cost::INVERSE)?;
                     let prev = if i == 0 { r.v[n - 1].p } else { r.v[i - 1].p };
                     let next = r.v[i + 1].p;
                     passages.push((ri, i, azimuth(p, prev), azimuth(p, next)));
@@ -889,13 +947,16 @@ fn passages_cross(rings: &[Ring], touches: &Touches) -> Result<(), GeomError> {
             }
         }
         for &(ri, k, q) in &touches.on_edges {
+            pace.step()?;
             if q == p {
+                pace.spend(2 * cost::INVERSE)?;
                 let r = &rings[ri];
                 passages.push((ri, k, azimuth(p, r.v[k].p), azimuth(p, r.v[k + 1].p)));
             }
         }
         for i in 0..passages.len() {
             for j in i + 1..passages.len() {
+                pace.step()?;
                 let (x, y) = (passages[i], passages[j]);
                 if interleave((x.2, x.3), (y.2, y.3)) {
                     return Err(crossing_error(rings, (x.0, x.1), (y.0, y.1), p));
@@ -942,14 +1003,16 @@ struct Loop {
 /// The rings cut into loops at the points where they touch themselves
 /// (with touching points on edges made vertices first). Rings without
 /// touching points are one loop each.
-fn loops_of(rings: &[Ring], touches: &Touches) -> Vec<Loop> {
+fn loops_of(rings: &[Ring], touches: &Touches, pace: &mut Pacer) -> Result<Vec<Loop>, GeomError> {
     let mut out = Vec::new();
     for (ri, r) in rings.iter().enumerate() {
         let mut chain: Vec<LonLat> = Vec::with_capacity(r.v.len());
         let touched = !touches.points.is_empty();
         for k in 0..r.v.len() - 1 {
+            pace.step()?;
             chain.push(r.v[k].p);
             if touched {
+                pace.spend(touches.on_edges.len().try_into().unwrap_or(u32::MAX))?;
                 let a = r.v[k].p;
                 let mut extra: Vec<LonLat> = touches
                     .on_edges
@@ -994,6 +1057,7 @@ fn loops_of(rings: &[Ring], touches: &Touches) -> Vec<Loop> {
             }
         };
         for &p in &chain {
+            pace.step()?;
             if is_touch(&p) {
                 if let Some(at) = path.iter().rposition(|q| *q == p) {
                     emit(path.split_off(at), p);
@@ -1004,7 +1068,7 @@ fn loops_of(rings: &[Ring], touches: &Touches) -> Vec<Loop> {
         let first = chain[0];
         emit(path, first);
     }
-    out
+    Ok(out)
 }
 
 /// A point of the loop's boundary that is on no other loop: a vertex that
@@ -1100,37 +1164,64 @@ fn box_holds(outer: Option<(f64, f64, f64, f64)>, p: LonLat) -> bool {
 }
 
 /// For each loop, which other loops of its polygon hold it.
-fn holders(loops: &[Loop], touches: &Touches) -> Vec<Vec<usize>> {
-    let boxes: Vec<_> = loops.iter().map(loop_box).collect();
-    let probes: Vec<LonLat> = loops.iter().map(|l| probe(l, touches)).collect();
+fn holders(
+    loops: &[Loop],
+    touches: &Touches,
+    pace: &mut Pacer,
+) -> Result<Vec<Vec<usize>>, GeomError> {
+    let mut boxes = Vec::with_capacity(loops.len());
+    let mut probes: Vec<LonLat> = Vec::with_capacity(loops.len());
+    for l in loops {
+        pace.spend(ring_test_cost(l.points.len()))?;
+        boxes.push(loop_box(l));
+        probes.push(probe(l, touches));
+    }
     let mut out = vec![Vec::new(); loops.len()];
     for i in 0..loops.len() {
         for j in 0..loops.len() {
+            pace.step()?;
             if i == j || loops[i].polygon != loops[j].polygon {
                 continue;
             }
-            if box_holds(boxes[j], probes[i]) && point_in_ring(probes[i], &loops[j].points) {
-                out[i].push(j);
+            if box_holds(boxes[j], probes[i]) {
+                pace.spend(ring_test_cost(loops[j].points.len()))?;
+                if point_in_ring(probes[i], &loops[j].points) {
+                    out[i].push(j);
+                }
             }
         }
     }
-    out
+    Ok(out)
 }
 
-fn depths(loops: &[Loop], touches: &Touches) -> Vec<usize> {
+/// The cost, in [`Pacer`] units, of a point-in-ring test or a pass over a
+/// ring of `n` points: a flat step per edge.
+fn ring_test_cost(n: usize) -> u32 {
+    cost::FLAT.saturating_mul(n.try_into().unwrap_or(u32::MAX))
+}
+
+fn depths(loops: &[Loop], touches: &Touches, pace: &mut Pacer) -> Result<Vec<usize>, GeomError> {
     if loops.len() == 1 {
-        return vec![0];
+        return Ok(vec![0]);
     }
-    holders(loops, touches).iter().map(Vec::len).collect()
+    Ok(holders(loops, touches, pace)?
+        .iter()
+        .map(Vec::len)
+        .collect())
 }
 
 /// Holes inside their exterior and outside each other; polygons outside
 /// each other.
-fn nesting(rings: &[Ring], loops: &[Loop], touches: &Touches) -> Result<(), GeomError> {
+fn nesting(
+    rings: &[Ring],
+    loops: &[Loop],
+    touches: &Touches,
+    pace: &mut Pacer,
+) -> Result<(), GeomError> {
     if loops.len() < 2 {
         return Ok(());
     }
-    let held = holders(loops, touches);
+    let held = holders(loops, touches, pace)?;
     for (i, l) in loops.iter().enumerate() {
         let exterior = held[i].iter().filter(|&&j| loops[j].ring == 1).count();
         let hole = held[i].iter().find(|&&j| loops[j].ring > 1);
@@ -1156,11 +1247,16 @@ fn nesting(rings: &[Ring], loops: &[Loop], touches: &Touches) -> Result<(), Geom
         let boxes: Vec<_> = loops.iter().map(loop_box).collect();
         let mut parity = vec![false; polygons + 1];
         for l in loops.iter().filter(|l| l.ring == 1) {
+            pace.spend(ring_test_cost(l.points.len()))?;
             let p = probe(l, touches);
             parity.iter_mut().for_each(|x| *x = false);
             for (j, m) in loops.iter().enumerate() {
-                if m.polygon != l.polygon && box_holds(boxes[j], p) && point_in_ring(p, &m.points) {
-                    parity[m.polygon] = !parity[m.polygon];
+                pace.step()?;
+                if m.polygon != l.polygon && box_holds(boxes[j], p) {
+                    pace.spend(ring_test_cost(m.points.len()))?;
+                    if point_in_ring(p, &m.points) {
+                        parity[m.polygon] = !parity[m.polygon];
+                    }
                 }
             }
             if let Some(other) = parity.iter().position(|&x| x) {

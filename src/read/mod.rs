@@ -234,7 +234,7 @@ impl Reader {
 fn finish(raw: RawRow, d: &Dataset, bad_rows: BadRows) -> Result<Row, ReadError> {
     let geom = raw.geometry.and_then(|mut g| {
         d.frame.to_lonlat(&mut g)?;
-        blob::encode_valid(&g, 4326).map_err(Problem::Geometry)
+        blob::encode_valid(&g, 4326, &crate::interrupt::Never).map_err(Problem::Geometry)
     });
     let attributes = Value::Object(raw.attributes).to_string();
     match geom {

@@ -6,6 +6,7 @@
 use rusqlite::types::ValueRef;
 
 use crate::blob::{self, Decoded};
+use crate::error::GeomError;
 use crate::sql::error;
 use crate::sql::interrupt::HostInterrupt;
 use crate::sql::state::ConnState;
@@ -18,7 +19,7 @@ pub struct Args<'a> {
     values: [ValueRef<'a>; MAX_ARGS],
     len: usize,
     state: &'a ConnState,
-    call: Option<&'a rusqlite::functions::Context<'a>>,
+    host: Option<HostInterrupt<'a>>,
     /// Values after the first are the columns of a query's row (see
     /// [`Args::from_query_row`]): messages name them as columns.
     query_row: Option<i64>,
@@ -83,7 +84,7 @@ impl<'a> Args<'a> {
             values: inline,
             len,
             state,
-            call: None,
+            host: None,
             query_row: None,
         }
     }
@@ -98,16 +99,23 @@ impl<'a> Args<'a> {
 
     /// The same arguments, knowing the function call they belong to (so a
     /// long computation can see the statement's interrupt flag).
-    pub fn in_call(mut self, ctx: &'a rusqlite::functions::Context<'a>) -> Self {
-        self.call = Some(ctx);
+    pub fn in_call(self, ctx: &'a rusqlite::functions::Context<'a>) -> Self {
+        self.watching(HostInterrupt::of_call(ctx))
+    }
+
+    /// The same arguments, watching `host` for the statement's interrupt
+    /// (a virtual table's call, which has no function context).
+    pub fn watching(mut self, host: HostInterrupt<'a>) -> Self {
+        self.host = Some(host);
         self
     }
 
     /// The interrupt flag of the statement this call runs in (never set
-    /// when the arguments were not given their call with [`Args::in_call`]).
+    /// when the arguments were given neither their call
+    /// ([`Args::in_call`]) nor a flag to watch ([`Args::watching`])).
     pub fn interrupt(&self) -> HostInterrupt<'a> {
-        match self.call {
-            Some(ctx) => HostInterrupt::of_call(ctx),
+        match &self.host {
+            Some(host) => host.again(),
             None => HostInterrupt::detached(),
         }
     }
@@ -176,13 +184,18 @@ impl<'a> Args<'a> {
     }
 
     /// The geometry of argument `i`, decoded and checked for use (see
-    /// [`blob::decode_valid`]); NULL gives `None`.
+    /// [`blob::decode_valid`]; the checks of a big polygon stop on the
+    /// statement's interrupt: [`crate::sql::interrupted`]); NULL gives
+    /// `None`.
     pub fn geometry(&self, i: usize) -> rusqlite::Result<Option<Decoded>> {
         match self.blob(i)? {
             None => Ok(None),
-            Some(b) => blob::decode_valid(b)
+            Some(b) => blob::decode_valid(b, &self.interrupt())
                 .map(Some)
-                .map_err(|e| self.fail_arg(i, e)),
+                .map_err(|e| match e {
+                    GeomError::Interrupted => crate::sql::interrupted(self.name),
+                    e => self.fail_arg(i, e),
+                }),
         }
     }
 

@@ -78,6 +78,12 @@ impl<'c> HostInterrupt<'c> {
         Self::with(Source::None)
     }
 
+    /// The same connection's flag, with its own poll timer (first poll
+    /// after [`POLL_INTERVAL`], as for a new value).
+    pub fn again(&self) -> Self {
+        Self::with(self.source)
+    }
+
     fn handle(&self) -> Option<*mut ffi::sqlite3> {
         match self.source {
             // SAFETY: the context is the live context of the call running on

@@ -118,11 +118,12 @@ fn srid_arg(args: &Args, i: usize) -> rusqlite::Result<i32> {
 /// problem is reported against argument `arg` when one argument holds the
 /// whole geometry.
 fn output(args: &Args, arg: Option<usize>, g: &Geometry, srs_id: i32) -> SqlResult {
-    blob::encode_valid(g, srs_id)
+    blob::encode_valid(g, srs_id, &args.interrupt())
         .map(Value::Blob)
-        .map_err(|e| match arg {
-            Some(i) => args.fail_arg(i, e),
-            None => args.fail(e),
+        .map_err(|e| match (arg, e) {
+            (_, GeomError::Interrupted) => crate::sql::interrupted(args.name()),
+            (Some(i), e) => args.fail_arg(i, e),
+            (None, e) => args.fail(e),
         })
 }
 

@@ -304,8 +304,10 @@ impl LayerBuilder {
         let Some(bytes) = args.blob(1)? else {
             return Ok(());
         };
-        let decoded = blob::decode_valid(bytes)
-            .map_err(|e| args.fail(format!("feature {id} of layer '{name}': {e}")))?;
+        let decoded = blob::decode_valid(bytes, &args.interrupt()).map_err(|e| match e {
+            GeomError::Interrupted => interrupted(LAYER),
+            e => args.fail(format!("feature {id} of layer '{name}': {e}")),
+        })?;
         if decoded.geometry.is_empty() {
             return Ok(());
         }
@@ -432,8 +434,9 @@ impl Aggregate<Pending, i64> for LayerBuilder {
         if acc.failures_at_start.is_none() {
             acc.failures_at_start = Some(self.state.failures());
         }
+        let ctx: &Context<'_> = ctx;
         let values = (0..ctx.len()).map(|i| ctx.get_raw(i));
-        let args = Args::new(LAYER, LAYER_PARAMS, values, &self.state);
+        let args = Args::new(LAYER, LAYER_PARAMS, values, &self.state).in_call(ctx);
         let result = guard(LAYER, || self.step_args(&args, acc));
         if result.is_err() {
             // Free the rows (in the background); finalize will change

@@ -5,7 +5,7 @@
 use rusqlite::types::Value;
 
 use crate::error::GeomError;
-use crate::interrupt::Interrupt;
+use crate::interrupt::{Interrupt, Pacer};
 
 use crate::geodesy::area;
 use crate::proximity::{self, Prepared};
@@ -91,14 +91,20 @@ fn within(args: &Args) -> SqlResult {
 
 fn area_m2(args: &Args) -> SqlResult {
     Ok(match args.geometry(0)? {
-        Some(d) => Value::Real(crate::proximity::validity::area(&d.geometry)),
+        Some(d) => Value::Real(
+            crate::proximity::validity::area_until(&d.geometry, &args.interrupt())
+                .map_err(|e| core_error(args, 0, e))?,
+        ),
         None => Value::Null,
     })
 }
 
 fn length_m(args: &Args) -> SqlResult {
     Ok(match args.geometry(0)? {
-        Some(d) => Value::Real(area::geometry_length(&d.geometry)),
+        Some(d) => Value::Real(
+            area::geometry_length_until(&d.geometry, &mut Pacer::new(&args.interrupt()))
+                .map_err(|e| core_error(args, 0, e))?,
+        ),
         None => Value::Null,
     })
 }

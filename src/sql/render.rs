@@ -13,10 +13,12 @@ use rusqlite::types::ValueRef;
 use rusqlite::Connection;
 
 use crate::blob;
+use crate::error::GeomError;
 use crate::geometry::Geometry;
 use crate::render::collection::{self, FeatureCollection};
 use crate::render::svg;
 use crate::sql::args::describe;
+use crate::sql::interrupt::HostInterrupt;
 use crate::sql::{error, guard};
 
 const COLLECTION: &str = "ambit_feature_collection";
@@ -65,9 +67,12 @@ impl Row<'_, '_> {
     fn geometry(&self, i: usize) -> rusqlite::Result<Option<Geometry>> {
         match self.raw(i) {
             ValueRef::Null => Ok(None),
-            ValueRef::Blob(b) => blob::decode_valid(b)
+            ValueRef::Blob(b) => blob::decode_valid(b, &HostInterrupt::of_call(self.ctx))
                 .map(|d| Some(d.geometry))
-                .map_err(|e| self.fail(i, e.to_string())),
+                .map_err(|e| match e {
+                    GeomError::Interrupted => crate::sql::interrupted(self.function),
+                    e => self.fail(i, e.to_string()),
+                }),
             other => Err(self.fail(
                 i,
                 format!(

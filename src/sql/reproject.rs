@@ -25,6 +25,7 @@ use rusqlite::types::{Value, ValueRef};
 use rusqlite::{Connection, OptionalExtension};
 
 use crate::blob;
+use crate::error::GeomError;
 use crate::reproject::Reprojection;
 use crate::sql::args::describe;
 use crate::sql::state::ConnState;
@@ -126,9 +127,12 @@ fn call(ctx: &Context<'_>, args: &Args<'_>, cache: &Cache) -> rusqlite::Result<V
     if let Source::Parsed(r) = &source {
         r.to_lonlat(&mut g).map_err(|e| args.fail_arg(0, e))?;
     }
-    blob::encode_valid(&g, LONLAT_SRS_ID)
+    blob::encode_valid(&g, LONLAT_SRS_ID, &args.interrupt())
         .map(Value::Blob)
-        .map_err(|e| args.fail_arg(0, e))
+        .map_err(|e| match e {
+            GeomError::Interrupted => crate::sql::interrupted(args.name()),
+            e => args.fail_arg(0, e),
+        })
 }
 
 /// The source system of srs_id `srs_id`: its gpkg_spatial_ref_sys row, or

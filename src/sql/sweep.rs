@@ -297,7 +297,7 @@ fn evaluate(
         Geom::Null => (Value::Null, Value::Null, Value::Null),
         Geom::Blob(bytes) => {
             let fail = |e: &dyn std::fmt::Display| format!("row with id {}: {e}", show(&id));
-            let decoded = blob::decode_valid(bytes).map_err(|e| fail(&e))?;
+            let decoded = blob::decode_valid(bytes, stop).map_err(|e| fail(&e))?;
             // Reached alone: decided from the envelope and a few vertices
             // where the layer's boxes and balls settle it, otherwise by the
             // exact test (crate::proximity::quick), as ambit_reached does.

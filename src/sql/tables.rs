@@ -33,8 +33,10 @@ use rusqlite::vtab::{
 };
 use rusqlite::{ffi, Connection};
 
+use crate::error::GeomError;
 use crate::proximity::layer::Extent;
 use crate::proximity::Prepared;
+use crate::sql::interrupt::HostInterrupt;
 use crate::sql::layer::distance_arg;
 use crate::sql::state::ConnState;
 use crate::sql::{guard, sweep, Args};
@@ -143,6 +145,7 @@ pub trait RowSource: 'static {
     /// xFilter: all rows of one call, each with a value per visible column.
     fn rows(
         state: &Arc<ConnState>,
+        host: HostInterrupt<'_>,
         idx: c_int,
         values: &Filters<'_>,
     ) -> rusqlite::Result<Vec<Vec<Value>>>;
@@ -153,6 +156,9 @@ pub trait RowSource: 'static {
 pub struct RowsTable<S: RowSource> {
     base: ffi::sqlite3_vtab,
     state: Arc<ConnState>,
+    /// The handle of the connection the table lives on, for its
+    /// statements' interrupt flag.
+    db: *mut ffi::sqlite3,
     source: PhantomData<S>,
 }
 
@@ -175,6 +181,10 @@ unsafe impl<'vtab, S: RowSource> VTab<'vtab> for RowsTable<S> {
             RowsTable {
                 base: ffi::sqlite3_vtab::default(),
                 state: aux.cloned().unwrap_or_default(),
+                // SAFETY: the handle of the connection this table lives on,
+                // which outlives the table; it is only read by xFilter,
+                // which runs on that connection's statement thread.
+                db: unsafe { db.handle() },
                 source: PhantomData,
             },
         ))
@@ -211,7 +221,10 @@ unsafe impl<S: RowSource> VTabCursor for RowsCursor<'_, S> {
         _s: Option<&str>,
         values: &Filters<'_>,
     ) -> rusqlite::Result<()> {
-        self.rows = S::rows(&self.table.state, idx, values)?;
+        // SAFETY: the table's connection outlives this call, and xFilter
+        // runs on the thread stepping the statement (the table's `db`).
+        let host = unsafe { HostInterrupt::of_db(self.table.db) };
+        self.rows = S::rows(&self.table.state, host, idx, values)?;
         self.at = 0;
         Ok(())
     }
@@ -250,6 +263,7 @@ impl RowSource for Layers {
 
     fn rows(
         state: &Arc<ConnState>,
+        _host: HostInterrupt<'_>,
         _idx: c_int,
         _values: &Filters<'_>,
     ) -> rusqlite::Result<Vec<Vec<Value>>> {
@@ -292,6 +306,7 @@ impl RowSource for Near {
 
     fn rows(
         state: &Arc<ConnState>,
+        host: HostInterrupt<'_>,
         idx: c_int,
         values: &Filters<'_>,
     ) -> rusqlite::Result<Vec<Vec<Value>>> {
@@ -301,7 +316,7 @@ impl RowSource for Near {
                 "needs a layer name and a geometry: SELECT * FROM ambit_near('layer', geom [, metres])",
             ));
         }
-        let args = Args::new(NEAR, NEAR_PARAMS, arguments(idx, values, 3), state);
+        let args = Args::new(NEAR, NEAR_PARAMS, arguments(idx, values, 3), state).watching(host);
         guard(NEAR, || {
             let Some(name) = args.text(0)? else {
                 return Ok(Vec::new());
@@ -310,9 +325,13 @@ impl RowSource for Near {
             let metres = distance_arg(&args, 2)?;
             let near = match args.geometry(1)? {
                 Some(d) => {
-                    let g = Prepared::build(&d.geometry, &crate::interrupt::Never)
-                        .map_err(|e| args.fail_arg(1, e))?;
-                    layer.near(&g, metres)
+                    let stop = args.interrupt();
+                    let core = |e: GeomError| match e {
+                        GeomError::Interrupted => crate::sql::interrupted(NEAR),
+                        e => args.fail_arg(1, e),
+                    };
+                    let g = Prepared::build(&d.geometry, &stop).map_err(core)?;
+                    layer.near_until(&g, metres, &stop).map_err(core)?
                 }
                 None => Vec::new(),
             };

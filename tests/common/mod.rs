@@ -280,7 +280,7 @@ pub fn prepared_hex(hex: &str) -> ambit::proximity::Prepared {
         .step_by(2)
         .map(|i| u8::from_str_radix(&hex[i..i + 2], 16).expect("hex"))
         .collect();
-    let g = ambit::blob::decode_valid(&bytes)
+    let g = ambit::blob::decode_valid(&bytes, &ambit::interrupt::Never)
         .expect("valid blob")
         .geometry;
     ambit::proximity::Prepared::new(&g)
