@@ -94,8 +94,13 @@ fn fail(what: impl std::fmt::Display) -> Failure {
     what.to_string()
 }
 
-/// The rows of one CSV of the region, as maps of column name to text.
-fn read_csv(dir: &Path, name: &str) -> Result<Vec<BTreeMap<String, String>>, Failure> {
+/// Calls `each` on every row of one CSV of the region, as a map of column
+/// name to text, one row at a time.
+fn for_each_csv_row(
+    dir: &Path,
+    name: &str,
+    each: &mut dyn FnMut(&BTreeMap<String, String>) -> Result<(), Failure>,
+) -> Result<(), Failure> {
     let path = dir.join(format!("{name}.csv"));
     let mut reader = csv::Reader::from_path(&path)
         .map_err(|e| fail(format!("cannot read {}: {e}", path.display())))?;
@@ -103,17 +108,25 @@ fn read_csv(dir: &Path, name: &str) -> Result<Vec<BTreeMap<String, String>>, Fai
         .headers()
         .map_err(|e| fail(format!("{}: {e}", path.display())))?
         .clone();
-    let mut rows = Vec::new();
     for record in reader.records() {
         let record = record.map_err(|e| fail(format!("{}: {e}", path.display())))?;
-        rows.push(
-            headers
-                .iter()
-                .zip(record.iter())
-                .map(|(h, v)| (h.to_string(), v.to_string()))
-                .collect(),
-        );
+        let row: BTreeMap<String, String> = headers
+            .iter()
+            .zip(record.iter())
+            .map(|(h, v)| (h.to_string(), v.to_string()))
+            .collect();
+        each(&row)?;
     }
+    Ok(())
+}
+
+/// The rows of one CSV of the region, as maps of column name to text.
+fn read_csv(dir: &Path, name: &str) -> Result<Vec<BTreeMap<String, String>>, Failure> {
+    let mut rows = Vec::new();
+    for_each_csv_row(dir, name, &mut |row| {
+        rows.push(row.clone());
+        Ok(())
+    })?;
     Ok(rows)
 }
 
@@ -249,35 +262,57 @@ fn number(v: &str) -> Result<FieldValue, Failure> {
         .map_err(|_| fail(format!("not a number in the region's CSV: {v}")))
 }
 
+/// One zipped shapefile per county, written as the blocks stream in: the
+/// region's blocks CSV lists each county's blocks together (the generator
+/// writes them county by county), so only one county is held in memory at
+/// a time, whatever the size of the region.
 fn write_blocks(region: &Path, out: &Path) -> Result<usize, Failure> {
-    let mut by_county: BTreeMap<String, Vec<(shapefile::Polygon, Vec<FieldValue>)>> =
-        BTreeMap::new();
-    for row in read_csv(region, "blocks")? {
-        let geoid = field(&row, "geoid")?;
-        let g = geometry(&row)?.ok_or_else(|| fail(format!("block {geoid} has no geometry")))?;
-        by_county
-            .entry(geoid.chars().take(5).collect())
-            .or_default()
-            .push((
-                shape_polygon(&g)?,
-                vec![
-                    text(geoid),
-                    number(field(&row, "population")?)?,
-                    number(field(&row, "water")?)?,
-                ],
-            ));
-    }
     let fields = [
         Field::Text("GEOID", 15),
         Field::Number("POP", 10),
         Field::Number("WATER", 1),
     ];
-    for (county, features) in &by_county {
+    let mut written = std::collections::BTreeSet::new();
+    let mut county = String::new();
+    let mut features: Vec<(shapefile::Polygon, Vec<FieldValue>)> = Vec::new();
+    let flush = |county: &str,
+                 features: &mut Vec<(shapefile::Polygon, Vec<FieldValue>)>,
+                 written: &mut std::collections::BTreeSet<String>|
+     -> Result<(), Failure> {
+        if features.is_empty() {
+            return Ok(());
+        }
+        if !written.insert(county.to_string()) {
+            return Err(fail(format!(
+                "the blocks of county {county} are not listed together in the region's blocks.csv"
+            )));
+        }
         let stem = out.join(format!("blocks_{county}"));
         let files = write_shapefile(&stem, NAD83_PRJ, &fields, features)?;
         zip_files(&out.join(format!("blocks_{county}.zip")), &files)?;
-    }
-    Ok(by_county.len())
+        features.clear();
+        Ok(())
+    };
+    for_each_csv_row(region, "blocks", &mut |row| {
+        let geoid = field(row, "geoid")?;
+        let g = geometry(row)?.ok_or_else(|| fail(format!("block {geoid} has no geometry")))?;
+        let this: String = geoid.chars().take(5).collect();
+        if this != county {
+            flush(&county, &mut features, &mut written)?;
+            county = this;
+        }
+        features.push((
+            shape_polygon(&g)?,
+            vec![
+                text(geoid),
+                number(field(row, "population")?)?,
+                number(field(row, "water")?)?,
+            ],
+        ));
+        Ok(())
+    })?;
+    flush(&county, &mut features, &mut written)?;
+    Ok(written.len())
 }
 
 fn write_areas(region: &Path, out: &Path, table: &str) -> Result<(), Failure> {
