@@ -94,12 +94,14 @@ fn fail(what: impl std::fmt::Display) -> Failure {
     what.to_string()
 }
 
-/// Calls `each` on every row of one CSV of the region, as a map of column
-/// name to text, one row at a time.
+/// One row of a CSV of the region: column name to text.
+type CsvRow = BTreeMap<String, String>;
+
+/// Calls `each` on every row of one CSV of the region, one row at a time.
 fn for_each_csv_row(
     dir: &Path,
     name: &str,
-    each: &mut dyn FnMut(&BTreeMap<String, String>) -> Result<(), Failure>,
+    each: &mut dyn FnMut(&CsvRow) -> Result<(), Failure>,
 ) -> Result<(), Failure> {
     let path = dir.join(format!("{name}.csv"));
     let mut reader = csv::Reader::from_path(&path)
@@ -110,7 +112,7 @@ fn for_each_csv_row(
         .clone();
     for record in reader.records() {
         let record = record.map_err(|e| fail(format!("{}: {e}", path.display())))?;
-        let row: BTreeMap<String, String> = headers
+        let row: CsvRow = headers
             .iter()
             .zip(record.iter())
             .map(|(h, v)| (h.to_string(), v.to_string()))
