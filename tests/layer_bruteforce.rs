@@ -24,7 +24,6 @@ fn feature(id: i64, text: &str, reach: f64) -> Feature {
     Feature {
         id,
         reach,
-        vertices: g.vertex_count(),
         geometry: Prepared::new(&g),
     }
 }

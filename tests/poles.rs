@@ -293,7 +293,6 @@ fn layers_with_pole_vertices() {
             id: 1,
             reach: 4_463_344.0,
             geometry: prep(&poly),
-            vertices: 4,
         }]);
         assert!(layer.reached(&query), "{poly}");
         let nearest = layer.nearest(&query, None).unwrap();
@@ -302,7 +301,6 @@ fn layers_with_pole_vertices() {
             id: 1,
             reach: 4_463_342.0,
             geometry: prep(&poly),
-            vertices: 4,
         }]);
         assert!(!short.reached(&query), "{poly}");
         assert_eq!(short.count(&query, None), 0);

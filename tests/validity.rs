@@ -235,7 +235,6 @@ fn small_defects_with_one_meaning_are_accepted_and_measured() {
         id: 1,
         reach: 100.0,
         geometry: Prepared::new(&parse("POINT(0.0025 0.0025)")),
-        vertices: 1,
     }]);
     let lower = Prepared::new(&parse("POLYGON((0 0, 0.01 0, 0.005 0.005, 0 0))"));
     let (both, one) = (

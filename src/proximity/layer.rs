@@ -50,11 +50,19 @@ pub struct Feature {
     /// Metres; 0 means touching or containing.
     pub reach: f64,
     pub geometry: Prepared,
-    /// Vertices in the stored geometry.
-    pub vertices: usize,
 }
 
 impl Feature {
+    /// Vertices in the stored geometry: its isolated points and the
+    /// vertices of its lines and rings (a ring's closing vertex counted, as
+    /// WKT and WKB write it; a vertex at a pole split in two where its
+    /// edges arrive on different meridians counts twice). Counted, not
+    /// stored, to keep a feature small.
+    pub fn vertices(&self) -> usize {
+        let g = &self.geometry;
+        g.points.len() + g.chains().map(<[_]>::len).sum::<usize>()
+    }
+
     /// The feature `id` with reach `reach` (metres) and geometry `g`,
     /// prepared; see [`Prepared::build`] for `stop` and the errors.
     pub fn build(
@@ -68,7 +76,6 @@ impl Feature {
         Ok(Feature {
             id,
             reach,
-            vertices: g.vertex_count(),
             geometry,
         })
     }
@@ -105,8 +112,26 @@ fn rtree_bytes<T: rstar::RTreeObject>(n: usize) -> usize {
 }
 
 /// An entry of the nearest-search index: a feature's box in Earth-centred
-/// coordinates ([`space_box`]) and its position.
-type SpaceEntry = GeomWithData<Rectangle<[f64; 3]>, u32>;
+/// coordinates ([`space_box`]), rounded outward to f32, and its position.
+type SpaceEntry = GeomWithData<Rectangle<[f32; 3]>, u32>;
+
+/// How far (metres) a query point moves when its Earth-centred
+/// coordinates are rounded to f32: each coordinate is below 2^23 m in
+/// magnitude, where f32 values are 0.5 m apart, so it moves at most
+/// 0.25 m, and the point at most 0.25 * sqrt(3) < 0.44 m.
+const SPACE_QUERY_SHIFT: f64 = 0.44;
+
+/// A lower bound (metres) on the straight-line distance from the f64 point
+/// whose f32 rounding was queried to any point of an entry's box, from the
+/// squared distance rstar computed in f32 (`d2`): each of the three gaps,
+/// their squares and their sum is rounded once in f32 (relative error
+/// at most 2^-24 each, under 3e-7 in all for the square, so the distance
+/// is short of the rounded root by under 2e-7 of itself; 1e-6 is
+/// allowed), and the query point itself may lie [`SPACE_QUERY_SHIFT`]
+/// from the point asked about.
+fn space_lower(d2: f32) -> f64 {
+    (f64::from(d2).sqrt() * (1.0 - 1e-6) - SPACE_QUERY_SHIFT).max(0.0)
+}
 
 /// The extent of a layer's vertices in degrees: `west` and `east` in
 /// [-180, 180], `south` and `north` in [-90, 90]. `west > east` when the
@@ -429,8 +454,12 @@ impl Layer {
             }
             extent.add(&f.geometry);
             if let Some(b) = space_box(&f.geometry.balls) {
+                let down = |x: f64| -f32_up(-x);
                 space.push(GeomWithData::new(
-                    Rectangle::from_corners([b[0], b[1], b[2]], [b[3], b[4], b[5]]),
+                    Rectangle::from_corners(
+                        [down(b[0]), down(b[1]), down(b[2])],
+                        [f32_up(b[3]), f32_up(b[4]), f32_up(b[5])],
+                    ),
                     i as u32,
                 ));
             }
@@ -514,7 +543,7 @@ impl Layer {
 
     /// Total vertices of all features.
     pub fn vertices(&self) -> usize {
-        self.features.iter().map(|f| f.vertices).sum()
+        self.features.iter().map(Feature::vertices).sum()
     }
 
     /// Memory held by the layer, bytes: its features ([`Feature::bytes`]),
@@ -756,13 +785,8 @@ impl Layer {
         let mut deferred: Vec<(f64, usize)> = Vec::new();
         let near = self
             .space
-            .nearest_neighbor_iter_with_distance_2(ball.xyz)
-            .map(|(entry, d2)| {
-                (
-                    d2.sqrt() * (1.0 - 1e-12) - 1e-6 - ball.radius,
-                    entry.data as usize,
-                )
-            });
+            .nearest_neighbor_iter_with_distance_2(ball.xyz.map(|x| x as f32))
+            .map(|(entry, d2)| (space_lower(d2) - ball.radius, entry.data as usize));
         let mut near = near.peekable();
         let mut k = 0usize;
         loop {
@@ -856,7 +880,6 @@ mod tests {
         Feature {
             id,
             reach,
-            vertices: g.vertex_count(),
             geometry: Prepared::new(&g),
         }
     }

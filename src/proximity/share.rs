@@ -1584,13 +1584,11 @@ mod interrupt_tests {
             id: 1,
             reach: 804.672,
             geometry: Prepared::new(&Geometry::point(10.001, 45.0)),
-            vertices: 1,
         };
         let big = Feature {
             id: 2,
             reach: 30_000.0,
             geometry: Prepared::new(&Geometry::point(10.2, 45.1)),
-            vertices: 1,
         };
         for (g, f) in [
             (square(10.0, 45.0, 0.01), &park),
