@@ -102,6 +102,49 @@ fn the_indicator_from_the_downloads_prints_the_demo_county_table() {
         problems.iter().any(|p| p[2].contains("swapped")),
         "{problems:?}"
     );
+    // Each row says where it came from. The licensing list row by row
+    // against the CSV itself (row n is the n-th line after the header);
+    // its rows without a geometry are exactly those listed, with the same
+    // reason, in download_problems.
+    let listed = common::db_rows(
+        &db,
+        "SELECT source_file, source_row, license_no, geom IS NULL, coalesce(problem, '') \
+         FROM fitness_list ORDER BY fid",
+    );
+    let lines: Vec<&str> = csv.lines().skip(1).collect();
+    assert_eq!(listed.len(), lines.len());
+    for (i, (row, line)) in listed.iter().zip(&lines).enumerate() {
+        assert_eq!(row[0], "downloads/fitness_list.csv", "{row:?}");
+        assert_eq!(row[1], (i + 1).to_string(), "{row:?}");
+        assert_eq!(
+            Some(row[2].as_str()),
+            line.split(',').next(),
+            "{row:?}: {line}"
+        );
+        assert_eq!(row[3] == "1", !row[4].is_empty(), "{row:?}");
+    }
+    let kept: Vec<Vec<String>> = listed
+        .iter()
+        .filter(|r| r[3] == "1")
+        .map(|r| vec![r[0].clone(), r[1].clone(), r[4].clone()])
+        .collect();
+    assert_eq!(kept, problems);
+    // The blocks: each from its county's zipped shapefile (named by the
+    // county GEOID, src/bin/ambit-downloads.rs), every file's rows numbered
+    // 1 to its count once each, and none without a geometry.
+    let traced = common::db_rows(
+        &db,
+        "SELECT count(*), \
+           sum(source_file = 'downloads/blocks_' || substr(geoid, 1, 5) || '.zip/blocks_' \
+               || substr(geoid, 1, 5) || '.shp'), \
+           sum(geom IS NULL OR problem IS NOT NULL), \
+           (SELECT count(*) FROM (SELECT source_file FROM blocks GROUP BY source_file \
+              HAVING min(source_row) != 1 OR max(source_row) != count(*) \
+                OR count(DISTINCT source_row) != count(*))), \
+           (SELECT count(DISTINCT source_file) FROM blocks) \
+         FROM blocks",
+    );
+    assert_eq!(traced, [["21047", "21047", "0", "0", "6"]]);
     assert!(
         run.stdout.contains("│ blocks       │ 21047 │ 0"),
         "{}",
