@@ -41,7 +41,7 @@
 -- ambit is found on the library search path (README, "Install").
 .load libambit
 -- The counts the building steps return go to a log in results/, not the
--- screen; the table of rows that could not be placed is printed.
+-- screen; what was read and the rows that could not be placed are printed.
 .output results/from-downloads.log
 
 -- 1. Each file read once, straight into its table; rows that cannot be
@@ -147,7 +147,9 @@ SELECT ambit_gpkg_register('rec_sites', 'geom', 'POINT');
 SELECT ambit_gpkg_register('fitness_list', 'geom', 'POINT');
 SELECT ambit_gpkg_register('download_problems', NULL);
 
--- 4. What was read, and every row that could not be placed. -------------
+-- 4. What was read, and the rows that could not be placed: by file and
+-- reason, with the first row of each (a nation's lists hold hundreds; every
+-- one is in download_problems). -------------------------------------------
 .output stdout
 .mode box
 SELECT 'counties' AS layer, count(*) AS rows, sum(geom IS NULL) AS without_geometry FROM counties
@@ -156,5 +158,6 @@ UNION ALL SELECT 'urban_areas', count(*), sum(geom IS NULL) FROM urban_areas
 UNION ALL SELECT 'parks', count(*), sum(geom IS NULL) FROM parks
 UNION ALL SELECT 'rec_sites', count(*), sum(geom IS NULL) FROM rec_sites
 UNION ALL SELECT 'fitness_list', count(*), sum(geom IS NULL) FROM fitness_list;
-SELECT file, row, problem FROM download_problems ORDER BY rowid;
+SELECT file, problem, count(*) AS rows, min(row) AS first_row
+FROM download_problems GROUP BY file, problem ORDER BY min(rowid);
 .mode list
