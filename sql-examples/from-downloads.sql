@@ -21,97 +21,121 @@
 --
 -- Outputs: the tables counties, blocks, parks, rec_sites, fitness_list and
 -- urban_areas as in the demo database (registered GeoPackage layers; blocks
--- and parks with a spatial index), and download_problems: every row that
--- could not be placed, with its file, row number and reason (nothing is
--- dropped silently; those rows are kept with a NULL geometry).
+-- and parks with a spatial index), each with three more columns:
+-- source_file and source_row (the file each row came from, as ambit_read
+-- names it, and the row's number in it, from 1) and problem (NULL, or why
+-- the row could not be placed; such rows are kept with a NULL geometry,
+-- nothing is dropped silently). download_problems lists those rows: their
+-- layer, file, row number and reason.
+--
+-- National size: every file is read once and its rows go straight into
+-- their table, with no staging copy (8.1 million blocks are some 8 GB; a
+-- copy of them in a temporary table needed as much again in SQLite's temp
+-- folder). For the same reason nothing here routes the rows through a
+-- trigger: SQLite stores all rows of an INSERT ... SELECT in a temporary
+-- table first when the target has row triggers. The rows that could not be
+-- placed are found again through a small partial index on problem
+-- (<table>_problems), not by scanning the tables.
 
 .bail on
 -- ambit is found on the library search path (README, "Install").
 .load libambit
 -- The counts the building steps return go to a log in results/, not the
--- screen; the table of rows that could not be placed is printed.
+-- screen; what was read and the rows that could not be placed are printed.
 .output results/from-downloads.log
 
--- 1. Read every file once; rows that cannot be placed are kept with the
--- reason (bad_rows: keep), and listed in download_problems below. --------
-DROP TABLE IF EXISTS temp.downloaded;
-CREATE TEMP TABLE downloaded (layer TEXT, file TEXT, row INTEGER, attributes TEXT, geom BLOB, problem TEXT);
-INSERT INTO temp.downloaded SELECT 'counties', file, row, attributes, geom, problem
-  FROM ambit_read('downloads/counties.zip', '{"bad_rows": "keep"}');
-INSERT INTO temp.downloaded SELECT 'blocks', file, row, attributes, geom, problem
-  FROM ambit_read('downloads/blocks_*.zip', '{"bad_rows": "keep"}');
-INSERT INTO temp.downloaded SELECT 'urban_areas', file, row, attributes, geom, problem
-  FROM ambit_read('downloads/urban_areas.zip', '{"bad_rows": "keep"}');
-INSERT INTO temp.downloaded SELECT 'parks', file, row, attributes, geom, problem
-  FROM ambit_read('downloads/parks/parks_utm9n.shp', '{"bad_rows": "keep"}');
-INSERT INTO temp.downloaded SELECT 'rec_sites', file, row, attributes, geom, problem
-  FROM ambit_read('downloads/rec_sites.geojson', '{"bad_rows": "keep"}');
-INSERT INTO temp.downloaded SELECT 'fitness_list', file, row, attributes, geom, problem
-  FROM ambit_read('downloads/fitness_list.csv', '{"bad_rows": "keep"}');
-
-DROP TABLE IF EXISTS download_problems;
-CREATE TABLE download_problems (layer TEXT, file TEXT, row INTEGER, problem TEXT);
-INSERT INTO download_problems
-  SELECT layer, file, row, problem FROM temp.downloaded WHERE problem IS NOT NULL ORDER BY rowid;
-
+-- 1. Each file read once, straight into its table; rows that cannot be
+-- placed are kept with the reason (bad_rows: keep). -------------------------
 -- A shapefile polygon with one outer ring is read as a POLYGON; the county
 -- and urban-area layers hold MULTIPOLYGONs, as in the demo database.
-DROP VIEW IF EXISTS temp.as_multi;
-CREATE TEMP VIEW as_multi AS
-  SELECT rowid AS id,
+DROP TABLE IF EXISTS counties;
+CREATE TABLE counties (fid INTEGER PRIMARY KEY, geoid TEXT NOT NULL, name TEXT NOT NULL,
+  source_file TEXT NOT NULL, source_row INTEGER NOT NULL, problem TEXT, geom MULTIPOLYGON);
+CREATE INDEX counties_problems ON counties (fid) WHERE problem IS NOT NULL;
+INSERT INTO counties (geoid, name, source_file, source_row, problem, geom)
+  SELECT json_extract(attributes, '$.GEOID'), json_extract(attributes, '$.NAME'), file, row, problem,
          CASE WHEN ST_GeometryType(geom) = 'POLYGON'
               THEN ST_GeomFromText('MULTIPOLYGON (' || substr(ST_AsText(geom), 9) || ')')
-              ELSE geom END AS geom
-  FROM temp.downloaded;
+              ELSE geom END
+  FROM ambit_read('downloads/counties.zip', '{"bad_rows": "keep"}');
 
--- 2. The input tables of the indicator scripts. ------------------------
-DROP TABLE IF EXISTS counties;
-CREATE TABLE counties (fid INTEGER PRIMARY KEY, geoid TEXT NOT NULL, name TEXT NOT NULL, geom MULTIPOLYGON);
-INSERT INTO counties (geoid, name, geom)
-  SELECT json_extract(d.attributes, '$.GEOID'), json_extract(d.attributes, '$.NAME'), m.geom
-  FROM temp.downloaded AS d JOIN temp.as_multi AS m ON m.id = d.rowid
-  WHERE d.layer = 'counties' ORDER BY d.rowid;
-
+-- Columns that are not the geometry come first, so that reading them does
+-- not walk the pages of a long polygon.
 DROP TABLE IF EXISTS blocks;
 CREATE TABLE blocks (fid INTEGER PRIMARY KEY, geoid TEXT NOT NULL UNIQUE,
-  population INTEGER NOT NULL, water INTEGER NOT NULL, geom POLYGON);
-INSERT INTO blocks (geoid, population, water, geom)
+  population INTEGER NOT NULL, water INTEGER NOT NULL,
+  source_file TEXT NOT NULL, source_row INTEGER NOT NULL, problem TEXT, geom POLYGON);
+CREATE INDEX blocks_problems ON blocks (fid) WHERE problem IS NOT NULL;
+INSERT INTO blocks (geoid, population, water, source_file, source_row, problem, geom)
   SELECT json_extract(attributes, '$.GEOID'), json_extract(attributes, '$.POP'),
-         json_extract(attributes, '$.WATER'), geom
-  FROM temp.downloaded WHERE layer = 'blocks' ORDER BY rowid;
+         json_extract(attributes, '$.WATER'), file, row, problem, geom
+  FROM ambit_read('downloads/blocks_*.zip', '{"bad_rows": "keep"}');
 
 DROP TABLE IF EXISTS urban_areas;
-CREATE TABLE urban_areas (fid INTEGER PRIMARY KEY, name TEXT NOT NULL, geom MULTIPOLYGON);
-INSERT INTO urban_areas (name, geom)
-  SELECT json_extract(d.attributes, '$.NAME'), m.geom
-  FROM temp.downloaded AS d JOIN temp.as_multi AS m ON m.id = d.rowid
-  WHERE d.layer = 'urban_areas' ORDER BY d.rowid;
+CREATE TABLE urban_areas (fid INTEGER PRIMARY KEY, name TEXT NOT NULL,
+  source_file TEXT NOT NULL, source_row INTEGER NOT NULL, problem TEXT, geom MULTIPOLYGON);
+CREATE INDEX urban_areas_problems ON urban_areas (fid) WHERE problem IS NOT NULL;
+INSERT INTO urban_areas (name, source_file, source_row, problem, geom)
+  SELECT json_extract(attributes, '$.NAME'), file, row, problem,
+         CASE WHEN ST_GeometryType(geom) = 'POLYGON'
+              THEN ST_GeomFromText('MULTIPOLYGON (' || substr(ST_AsText(geom), 9) || ')')
+              ELSE geom END
+  FROM ambit_read('downloads/urban_areas.zip', '{"bad_rows": "keep"}');
 
 DROP TABLE IF EXISTS parks;
-CREATE TABLE parks (fid INTEGER PRIMARY KEY, park_id TEXT NOT NULL, name TEXT NOT NULL, geom GEOMETRY);
-INSERT INTO parks (park_id, name, geom)
-  SELECT json_extract(attributes, '$.PARK_ID'), json_extract(attributes, '$.NAME'), geom
-  FROM temp.downloaded WHERE layer = 'parks' ORDER BY rowid;
+CREATE TABLE parks (fid INTEGER PRIMARY KEY, park_id TEXT NOT NULL, name TEXT NOT NULL,
+  source_file TEXT NOT NULL, source_row INTEGER NOT NULL, problem TEXT, geom GEOMETRY);
+CREATE INDEX parks_problems ON parks (fid) WHERE problem IS NOT NULL;
+INSERT INTO parks (park_id, name, source_file, source_row, problem, geom)
+  SELECT json_extract(attributes, '$.PARK_ID'), json_extract(attributes, '$.NAME'),
+         file, row, problem, geom
+  FROM ambit_read('downloads/parks/parks_utm9n.shp', '{"bad_rows": "keep"}');
 
 DROP TABLE IF EXISTS rec_sites;
 CREATE TABLE rec_sites (fid INTEGER PRIMARY KEY, site_code TEXT NOT NULL, site_name TEXT,
-  activity TEXT, geom POINT);
-INSERT INTO rec_sites (site_code, site_name, activity, geom)
+  activity TEXT, source_file TEXT NOT NULL, source_row INTEGER NOT NULL, problem TEXT, geom POINT);
+CREATE INDEX rec_sites_problems ON rec_sites (fid) WHERE problem IS NOT NULL;
+INSERT INTO rec_sites (site_code, site_name, activity, source_file, source_row, problem, geom)
   SELECT json_extract(attributes, '$.site_code'), json_extract(attributes, '$.site_name'),
-         json_extract(attributes, '$.activity'), geom
-  FROM temp.downloaded WHERE layer = 'rec_sites' ORDER BY rowid;
+         json_extract(attributes, '$.activity'), file, row, problem, geom
+  FROM ambit_read('downloads/rec_sites.geojson', '{"bad_rows": "keep"}');
 
 -- CSV values are text; lon and lat are read back from the geometry.
 DROP TABLE IF EXISTS fitness_list;
 CREATE TABLE fitness_list (fid INTEGER PRIMARY KEY, license_no TEXT NOT NULL, business TEXT,
-  category TEXT, lon REAL, lat REAL, geom POINT);
-INSERT INTO fitness_list (license_no, business, category, lon, lat, geom)
+  category TEXT, lon REAL, lat REAL, source_file TEXT NOT NULL, source_row INTEGER NOT NULL,
+  problem TEXT, geom POINT);
+CREATE INDEX fitness_list_problems ON fitness_list (fid) WHERE problem IS NOT NULL;
+INSERT INTO fitness_list (license_no, business, category, lon, lat, source_file, source_row,
+                          problem, geom)
   SELECT json_extract(attributes, '$.license_no'), nullif(json_extract(attributes, '$.business'), ''),
-         nullif(json_extract(attributes, '$.category'), ''), ST_X(geom), ST_Y(geom), geom
-  FROM temp.downloaded WHERE layer = 'fitness_list' ORDER BY rowid;
+         nullif(json_extract(attributes, '$.category'), ''), ST_X(geom), ST_Y(geom),
+         file, row, problem, geom
+  FROM ambit_read('downloads/fitness_list.csv', '{"bad_rows": "keep"}');
 
-DROP VIEW temp.as_multi;
-DROP TABLE temp.downloaded;
+-- 2. Every row that could not be placed, layer by layer in reading order
+-- (INDEXED BY: through the partial indexes, an error rather than a scan of
+-- every block if SQLite could not use them). --------------------------------
+DROP TABLE IF EXISTS download_problems;
+CREATE TABLE download_problems (layer TEXT, file TEXT, row INTEGER, problem TEXT);
+INSERT INTO download_problems
+  SELECT 'counties', source_file, source_row, problem
+  FROM counties INDEXED BY counties_problems WHERE problem IS NOT NULL ORDER BY fid;
+INSERT INTO download_problems
+  SELECT 'blocks', source_file, source_row, problem
+  FROM blocks INDEXED BY blocks_problems WHERE problem IS NOT NULL ORDER BY fid;
+INSERT INTO download_problems
+  SELECT 'urban_areas', source_file, source_row, problem
+  FROM urban_areas INDEXED BY urban_areas_problems WHERE problem IS NOT NULL ORDER BY fid;
+INSERT INTO download_problems
+  SELECT 'parks', source_file, source_row, problem
+  FROM parks INDEXED BY parks_problems WHERE problem IS NOT NULL ORDER BY fid;
+INSERT INTO download_problems
+  SELECT 'rec_sites', source_file, source_row, problem
+  FROM rec_sites INDEXED BY rec_sites_problems WHERE problem IS NOT NULL ORDER BY fid;
+INSERT INTO download_problems
+  SELECT 'fitness_list', source_file, source_row, problem
+  FROM fitness_list INDEXED BY fitness_list_problems WHERE problem IS NOT NULL ORDER BY fid;
 
 -- 3. GeoPackage layers (the blocks and parks with a spatial index, so GIS
 -- programs open them fast). ------------------------------------------------
@@ -123,7 +147,9 @@ SELECT ambit_gpkg_register('rec_sites', 'geom', 'POINT');
 SELECT ambit_gpkg_register('fitness_list', 'geom', 'POINT');
 SELECT ambit_gpkg_register('download_problems', NULL);
 
--- 4. What was read, and every row that could not be placed. -------------
+-- 4. What was read, and the rows that could not be placed: by file and
+-- reason, with the first row of each (a nation's lists hold hundreds; every
+-- one is in download_problems). -------------------------------------------
 .output stdout
 .mode box
 SELECT 'counties' AS layer, count(*) AS rows, sum(geom IS NULL) AS without_geometry FROM counties
@@ -132,5 +158,6 @@ UNION ALL SELECT 'urban_areas', count(*), sum(geom IS NULL) FROM urban_areas
 UNION ALL SELECT 'parks', count(*), sum(geom IS NULL) FROM parks
 UNION ALL SELECT 'rec_sites', count(*), sum(geom IS NULL) FROM rec_sites
 UNION ALL SELECT 'fitness_list', count(*), sum(geom IS NULL) FROM fitness_list;
-SELECT file, row, problem FROM download_problems ORDER BY rowid;
+SELECT file, problem, count(*) AS rows, min(row) AS first_row
+FROM download_problems GROUP BY file, problem ORDER BY min(rowid);
 .mode list

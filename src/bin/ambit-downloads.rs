@@ -9,7 +9,10 @@
 //!   .cpg) of the county's blocks in NAD83 longitude/latitude, with the
 //!   fields GEOID (character, 15: state 2 + county 3 + tract 6 + block 4,
 //!   leading zeros kept), POP (numeric, population) and WATER (numeric, 1
-//!   for a water block);
+//!   for a water block); the CSV is read row by row and each county's file
+//!   written when the next county starts, so one county's blocks are in
+//!   memory at a time (ambit-region writes each county's blocks together;
+//!   a county met again later is an error);
 //! - `counties.zip` (GEOID character 5, NAME) and `urban_areas.zip` (NAME),
 //!   the same way;
 //! - `parks/parks_utm9n.shp` with .shx, .dbf, .prj, .cpg, not zipped: the
@@ -45,7 +48,7 @@
 //! or `demo-db/build-region 21000 20261201 region.gpkg --downloads downloads`.
 //! sql-examples/from-downloads.sql builds the input tables from them.
 
-use std::collections::BTreeMap;
+use std::collections::{BTreeMap, BTreeSet};
 use std::fs::File;
 use std::io::{BufWriter, Write};
 use std::path::{Path, PathBuf};
@@ -94,14 +97,22 @@ fn fail(what: impl std::fmt::Display) -> Failure {
     what.to_string()
 }
 
-/// One row of a CSV of the region: column name to text.
-type CsvRow = BTreeMap<String, String>;
+/// The rows of one CSV of the region, as maps of column name to text.
+fn read_csv(dir: &Path, name: &str) -> Result<Vec<BTreeMap<String, String>>, Failure> {
+    let mut rows = Vec::new();
+    each_csv_row(dir, name, |row| {
+        rows.push(row);
+        Ok(())
+    })?;
+    Ok(rows)
+}
 
-/// Calls `each` on every row of one CSV of the region, one row at a time.
-fn for_each_csv_row(
+/// Hands the rows of the region's `name`.csv to `each` one at a time, so
+/// that a nation's blocks (some 8 GB of WKT) are never all in memory.
+fn each_csv_row(
     dir: &Path,
     name: &str,
-    each: &mut dyn FnMut(&CsvRow) -> Result<(), Failure>,
+    mut each: impl FnMut(BTreeMap<String, String>) -> Result<(), Failure>,
 ) -> Result<(), Failure> {
     let path = dir.join(format!("{name}.csv"));
     let mut reader = csv::Reader::from_path(&path)
@@ -112,24 +123,15 @@ fn for_each_csv_row(
         .clone();
     for record in reader.records() {
         let record = record.map_err(|e| fail(format!("{}: {e}", path.display())))?;
-        let row: CsvRow = headers
-            .iter()
-            .zip(record.iter())
-            .map(|(h, v)| (h.to_string(), v.to_string()))
-            .collect();
-        each(&row)?;
+        each(
+            headers
+                .iter()
+                .zip(record.iter())
+                .map(|(h, v)| (h.to_string(), v.to_string()))
+                .collect(),
+        )?;
     }
     Ok(())
-}
-
-/// The rows of one CSV of the region, as maps of column name to text.
-fn read_csv(dir: &Path, name: &str) -> Result<Vec<BTreeMap<String, String>>, Failure> {
-    let mut rows = Vec::new();
-    for_each_csv_row(dir, name, &mut |row| {
-        rows.push(row.clone());
-        Ok(())
-    })?;
-    Ok(rows)
 }
 
 fn field<'a>(row: &'a BTreeMap<String, String>, name: &str) -> Result<&'a str, Failure> {
@@ -264,56 +266,59 @@ fn number(v: &str) -> Result<FieldValue, Failure> {
         .map_err(|_| fail(format!("not a number in the region's CSV: {v}")))
 }
 
-/// One zipped shapefile per county, written as the blocks stream in: the
-/// region's blocks CSV lists each county's blocks together (the generator
-/// writes them county by county), so only one county is held in memory at
-/// a time, whatever the size of the region.
+/// One zipped shapefile per county, written as the county's last block is
+/// read: ambit-region writes each county's blocks together, so only one
+/// county is held in memory (a county met again after another is an error,
+/// never a second file overwriting the first).
 fn write_blocks(region: &Path, out: &Path) -> Result<usize, Failure> {
+    type Features = Vec<(shapefile::Polygon, Vec<FieldValue>)>;
     let fields = [
         Field::Text("GEOID", 15),
         Field::Number("POP", 10),
         Field::Number("WATER", 1),
     ];
-    let mut written = std::collections::BTreeSet::new();
-    let mut county = String::new();
-    let mut features: Vec<(shapefile::Polygon, Vec<FieldValue>)> = Vec::new();
-    let flush = |county: &str,
-                 features: &mut Vec<(shapefile::Polygon, Vec<FieldValue>)>,
-                 written: &mut std::collections::BTreeSet<String>|
-     -> Result<(), Failure> {
-        if features.is_empty() {
-            return Ok(());
-        }
-        if !written.insert(county.to_string()) {
-            return Err(fail(format!(
-                "the blocks of county {county} are not listed together in the region's blocks.csv"
-            )));
-        }
+    let write = |county: &str, features: &Features| -> Result<(), Failure> {
         let stem = out.join(format!("blocks_{county}"));
         let files = write_shapefile(&stem, NAD83_PRJ, &fields, features)?;
-        zip_files(&out.join(format!("blocks_{county}.zip")), &files)?;
-        features.clear();
-        Ok(())
+        zip_files(&out.join(format!("blocks_{county}.zip")), &files)
     };
-    for_each_csv_row(region, "blocks", &mut |row| {
-        let geoid = field(row, "geoid")?;
-        let g = geometry(row)?.ok_or_else(|| fail(format!("block {geoid} has no geometry")))?;
-        let this: String = geoid.chars().take(5).collect();
-        if this != county {
-            flush(&county, &mut features, &mut written)?;
-            county = this;
-        }
-        features.push((
+    let mut written = BTreeSet::new();
+    let mut current: Option<(String, Features)> = None;
+    each_csv_row(region, "blocks", |row| {
+        let geoid = field(&row, "geoid")?;
+        let county: String = geoid.chars().take(5).collect();
+        let g = geometry(&row)?.ok_or_else(|| fail(format!("block {geoid} has no geometry")))?;
+        let feature = (
             shape_polygon(&g)?,
             vec![
                 text(geoid),
-                number(field(row, "population")?)?,
-                number(field(row, "water")?)?,
+                number(field(&row, "population")?)?,
+                number(field(&row, "water")?)?,
             ],
-        ));
+        );
+        if let Some((c, features)) = &mut current {
+            if *c == county {
+                features.push(feature);
+                return Ok(());
+            }
+        }
+        if let Some((c, features)) = current.take() {
+            write(&c, &features)?;
+            written.insert(c);
+        }
+        if written.contains(&county) {
+            return Err(fail(format!(
+                "the region's blocks.csv does not hold county {county}'s blocks together \
+                 (block {geoid} comes after other counties' blocks)"
+            )));
+        }
+        current = Some((county, vec![feature]));
         Ok(())
     })?;
-    flush(&county, &mut features, &mut written)?;
+    if let Some((c, features)) = current {
+        write(&c, &features)?;
+        written.insert(c);
+    }
     Ok(written.len())
 }
 
