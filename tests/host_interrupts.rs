@@ -244,9 +244,10 @@ SELECT count(*), sum(nearest_m) FROM ambit_sweep('forest',
 
 #[test]
 fn a_layer_build_shows_progress_and_ctrl_c_stops_it() {
-    // 400,000 small squares prepared on one thread (over a second): the
-    // build prints its progress line (AMBIT_PROGRESS=1) and SIGINT, sent
-    // when the first one appears, stops it part way.
+    // 400,000 small squares prepared on one thread (about half a second
+    // on a quiet machine): the build prints its progress line
+    // (AMBIT_PROGRESS=1) and SIGINT, sent when the first one appears, stops
+    // it part way.
     let sql = "CREATE TABLE grid AS
   WITH RECURSIVE i(n) AS (SELECT 1 UNION ALL SELECT n + 1 FROM i WHERE n < 400000)
   SELECT n AS id, ST_GeomFromText(printf('POLYGON ((%f %f, %f %f, %f %f, %f %f, %f %f))',
@@ -265,10 +266,9 @@ SELECT count(*) FROM ambit_layers WHERE name = 'grid';";
     );
     eprintln!("layer build stopped {took:?} after SIGINT");
     assert!(stderr.contains("features"), "{stderr}");
+    // ambit reports "interrupted" only when it stopped before storing the
+    // layer: in the preparation or, on a fast machine where the features
+    // were all prepared before the signal, in the indexing after it.
     assert!(stderr.contains("ambit_layer: interrupted"), "{stderr}");
-    assert!(
-        !stderr.contains("400000 of 400000"),
-        "the build ran to its end: {stderr}"
-    );
     assert!(took < LIMIT, "took {took:?} to stop");
 }
