@@ -220,33 +220,13 @@ pub fn envelope(g: &Geometry) -> Option<LonLatBox> {
 }
 
 /// A ball holding every point of the box `b` (whose latitudes lie in
-/// [-90, 90]): centred on its middle, with the radius of the path along
-/// the middle's meridian and then along a parallel to any point of the
-/// box (|dlat| M_max + |dlon| a cos(lat) / sqrt(1 - e^2), both at most
-/// [`MAX_RADIUS`] per radian, cos(lat) at its largest in the box), which
-/// no geodesic exceeds. One sine and cosine pair in all.
-pub fn ball_around(b: &LonLatBox) -> Ball {
-    let centre = ((b.lon_lo + b.lon_hi) / 2.0, (b.lat_lo + b.lat_hi) / 2.0);
-    let nearest_equator = if b.lat_lo <= 0.0 && b.lat_hi >= 0.0 {
-        0.0
-    } else {
-        b.lat_lo.abs().min(b.lat_hi.abs())
-    };
-    let half_lat = (b.lat_hi - b.lat_lo) / 2.0;
-    let half_lon = (b.lon_hi - b.lon_lo) / 2.0;
-    let path = (half_lat + half_lon * nearest_equator.to_radians().cos().min(1.0)).to_radians();
-    Ball {
-        centre,
-        radius: path * MAX_RADIUS * (1.0 + 1e-12) + 1e-6,
-        xyz: crate::proximity::prepared::ecef(centre),
-    }
-}
-
-/// [`ball_around`] centred on a point `p` of the box instead of its middle
-/// (`p_xyz` its Earth-centred coordinates, which the caller has already
-/// computed, so no trigonometry here beyond one cosine): the path from `p`
-/// to any point of the box spans at most the box's whole latitude and
-/// longitude extents, twice the half extents [`ball_around`] uses.
+/// [-90, 90]), centred on a point `p` of the box (`p_xyz` its
+/// Earth-centred coordinates, which the caller has already computed, so
+/// no trigonometry here beyond one cosine). Its radius is the path along
+/// `p`'s meridian and then along a parallel to any point of the box:
+/// |dlat| M_max + |dlon| a cos(lat) / sqrt(1 - e^2), both at most
+/// [`MAX_RADIUS`] per radian, cos(lat) at its largest in the box, and
+/// |dlat|, |dlon| at most the box's whole extents; no geodesic is longer.
 pub fn ball_around_vertex(b: &LonLatBox, p: LonLat, p_xyz: [f64; 3]) -> Ball {
     let nearest_equator = if b.lat_lo <= 0.0 && b.lat_hi >= 0.0 {
         0.0
@@ -368,13 +348,10 @@ mod tests {
                     );
                 }
             }
-            // The ball around the middle, and the one around the first
-            // vertex (how proximity::quick uses it).
-            let first = pts[0];
-            for ball in [
-                ball_around(&b),
-                ball_around_vertex(&b, first, crate::proximity::prepared::ecef(first)),
-            ] {
+            // The ball around the first vertex (how proximity::quick uses
+            // it) and around the last.
+            for p in [pts[0], pts[pts.len() - 2]] {
+                let ball = ball_around_vertex(&b, p, crate::proximity::prepared::ecef(p));
                 for i in 0..=10 {
                     for j in 0..=10 {
                         let lon = b.lon_lo + (b.lon_hi - b.lon_lo) * i as f64 / 10.0;

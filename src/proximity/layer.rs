@@ -24,7 +24,7 @@ use crate::proximity::boxes::LonLatBox;
 use crate::proximity::distance::{
     distance_within_interruptible, nearest_between, within, within_interruptible,
 };
-use crate::proximity::prepared::{f32_up, tree_bytes, wrap_delta, Ball, Prepared};
+use crate::proximity::prepared::{f32_up, tree_bytes, wrap_delta, Prepared};
 use crate::proximity::share::{coverage_share, ShareError};
 
 /// Features indexed between two interrupt checks.
@@ -556,28 +556,6 @@ impl Layer {
             + rtree_bytes::<Entry>(self.tree.size())
             + rtree_bytes::<SpaceEntry>(self.space.size())
             + self.ids.capacity() * std::mem::size_of::<i64>()
-    }
-
-    /// False when no feature's reach-grown box meets `b`: then no feature
-    /// lies within its reach of any geometry inside `b` (the index never
-    /// loses a candidate), so such a geometry is not reached. Lets the
-    /// sweep skip preparing a geometry from its
-    /// [`crate::proximity::boxes::envelope`] alone.
-    /// With `ball` (a ball holding `b`), candidates whose own ball is
-    /// farther from it than their reach ([`Ball::gap`], a lower bound on
-    /// the distance) are not counted either.
-    pub fn may_reach(&self, b: &LonLatBox, ball: Option<&Ball>) -> bool {
-        b.normalised().iter().any(|q| {
-            self.tree
-                .locate_in_envelope_intersecting(outward(q))
-                .any(
-                    |e| match (ball, self.features[e.data as usize].geometry.ball) {
-                        (None, _) => true,
-                        (Some(g), Some(f)) => g.gap(&f) <= self.features[e.data as usize].reach,
-                        (Some(_), None) => false,
-                    },
-                )
-        })
     }
 
     /// The positions of the features whose reach-grown boxes meet `b`, in

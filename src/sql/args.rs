@@ -208,6 +208,13 @@ impl<'a> Args<'a> {
         }
     }
 
+    /// [`Args::text`] for an argument that must be given: NULL is an error
+    /// naming it.
+    pub fn required_text(&self, i: usize) -> rusqlite::Result<&'a str> {
+        self.text(i)?
+            .ok_or_else(|| self.fail_arg(i, "must not be NULL"))
+    }
+
     /// The text of argument `i`; NULL gives `None`. Text holding a NUL byte
     /// (e.g. `'POINT (1 2)' || char(0)`) is refused: no ambit argument
     /// means one, and it usually marks a truncated or binary value.

@@ -277,9 +277,7 @@ fn build_error(
 impl LayerBuilder {
     pub(crate) fn step_args(&self, args: &Args, acc: &mut Pending) -> rusqlite::Result<()> {
         acc.rows += 1;
-        let name = args
-            .text(0)?
-            .ok_or_else(|| args.fail_arg(0, "must not be NULL"))?;
+        let name = args.required_text(0)?;
         match &acc.name {
             None => {
                 acc.name = Some(name.to_string());

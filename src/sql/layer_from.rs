@@ -56,12 +56,8 @@ fn query_failed(e: rusqlite::Error) -> rusqlite::Error {
 fn call(ctx: &Context<'_>, builder: &LayerBuilder) -> rusqlite::Result<i64> {
     let state = Arc::clone(&builder.state);
     let args = Args::new(NAME, PARAMS, (0..ctx.len()).map(|i| ctx.get_raw(i)), &state);
-    let name = args
-        .text(0)?
-        .ok_or_else(|| args.fail_arg(0, "must not be NULL"))?;
-    let sql = args
-        .text(1)?
-        .ok_or_else(|| args.fail_arg(1, "must not be NULL"))?;
+    let name = args.required_text(0)?;
+    let sql = args.required_text(1)?;
     // SAFETY: the connection this function was called on, alive for the
     // whole call and used only within it, on this thread (module doc).
     let conn = unsafe { ctx.get_connection()? };

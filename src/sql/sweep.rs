@@ -496,12 +496,8 @@ pub struct SweepCursor<'vtab> {
 
 impl SweepCursor<'_> {
     fn start(&mut self, args: &Args, wanted: Wanted) -> rusqlite::Result<()> {
-        let name = args
-            .text(0)?
-            .ok_or_else(|| args.fail_arg(0, "must not be NULL"))?;
-        let sql = args
-            .text(1)?
-            .ok_or_else(|| args.fail_arg(1, "must not be NULL"))?;
+        let name = args.required_text(0)?;
+        let sql = args.required_text(1)?;
         let max_m = args.distance(2)?;
         let layer = args.state().layer(SWEEP, name)?;
         let query = RawQuery::prepare(self.table.db, sql).map_err(|e| args.fail_arg(1, e))?;

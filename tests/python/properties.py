@@ -1171,22 +1171,33 @@ def failure_properties(host, props, layers):
                 target = f"{name}_fresh{kind}" if fresh else name
                 if fresh and kind == "id_already_in_layer":
                     continue
+                def attempt(s, target=target):
+                    """Runs the failing statement `s`: (error or None, the
+                    layer before, the layer after)."""
+                    before = snapshot(host, target, probes)
+                    calls = [0]
+                    if kind == "interrupted":
+                        def handler():
+                            calls[0] += 1
+                            return 1 if calls[0] > 20 else 0
+                        c.set_progress_handler(handler, 200)
+                    try:
+                        c.execute(s).fetchall()
+                        raised = None
+                    except sqlite3.Error as e:
+                        raised = str(e)
+                    finally:
+                        c.set_progress_handler(None, 0)
+                    return raised, before, snapshot(host, target, probes)
+
+                def restore(target=target):
+                    """The layer as generated (absent when new)."""
+                    c.execute("SELECT ambit_layer_drop(?)", (target,))
+                    if not fresh:
+                        c.execute("SELECT ambit_layer(?, g, reach, fid) FROM feat WHERE layer = ? ORDER BY fid", (name, name))
+
                 s = f"SELECT ambit_layer('{target}', g, r, f) FROM ({source})"
-                before = snapshot(host, target, probes)
-                calls = [0]
-                if kind == "interrupted":
-                    def handler():
-                        calls[0] += 1
-                        return 1 if calls[0] > 20 else 0
-                    c.set_progress_handler(handler, 200)
-                try:
-                    c.execute(s).fetchall()
-                    raised = None
-                except sqlite3.Error as e:
-                    raised = str(e)
-                finally:
-                    c.set_progress_handler(None, 0)
-                after = snapshot(host, target, probes)
+                raised, before, after = attempt(s)
                 tag = f"{kind}, layer {li} ({where}){' (new layer)' if fresh else ''}"
                 prop = "duplicate_id_refused" if kind.startswith(("duplicate", "id_already")) else "failed_statement_errors"
                 props.check(prop, raised is not None, tag, "the statement succeeded",
@@ -1201,38 +1212,19 @@ def failure_properties(host, props, layers):
                             f"error {raised!r}; ambit_layers before {before[0]}, after {after[0]}"
                             + ("" if before[1] == after[1] else "; answers changed"),
                             lambda s=s, target=target: _failure_repro(name, target, feats, s))
-                # Restore for the next case: rebuild the layer as generated.
-                c.execute("SELECT ambit_layer_drop(?)", (target,))
-                if not fresh:
-                    c.execute("SELECT ambit_layer(?, g, reach, fid) FROM feat WHERE layer = ? ORDER BY fid", (name, name))
+                restore()
                 # The same rows through ambit_layer_from, which runs the
                 # query itself and so sees every error of it, SQLite's own
                 # and a progress handler's abort included.
                 inner = f"SELECT g, r, f FROM ({source})".replace("'", "''")
                 s = f"SELECT ambit_layer_from('{target}', '{inner}')"
-                before = snapshot(host, target, probes)
-                calls = [0]
-                if kind == "interrupted":
-                    def handler():
-                        calls[0] += 1
-                        return 1 if calls[0] > 20 else 0
-                    c.set_progress_handler(handler, 200)
-                try:
-                    c.execute(s).fetchall()
-                    raised = None
-                except sqlite3.Error as e:
-                    raised = str(e)
-                finally:
-                    c.set_progress_handler(None, 0)
-                after = snapshot(host, target, probes)
+                raised, before, after = attempt(s)
                 props.check("layer_from_errors_and_leaves_layer_unchanged",
                             raised is not None and before == after, tag,
                             f"error {raised!r}; ambit_layers before {before[0]}, after {after[0]}"
                             + ("" if before[1] == after[1] else "; answers changed"),
                             lambda s=s, target=target: _failure_repro(name, target, feats, s))
-                c.execute("SELECT ambit_layer_drop(?)", (target,))
-                if not fresh:
-                    c.execute("SELECT ambit_layer(?, g, reach, fid) FROM feat WHERE layer = ? ORDER BY fid", (name, name))
+                restore()
 
 
 def _failure_repro(name, target, feats, s):
