@@ -267,10 +267,12 @@ fn point_in_ring_matches_the_exact_edge_test_near_edges() {
 /// The flat-frame bounds on edge-to-edge distance hold around the exact
 /// distance (Karney's methods), on random edges of 1 m to 20 km, 0 to
 /// 50 km apart, at latitudes -80..80 and across the antimeridian; and it
-/// is tight enough to prune (printed).
+/// is tight enough to prune (printed). The frame of the four ends, kept
+/// (`FlatFrame`), also bounds each end's distance to the other edge, as
+/// the exact edge-to-edge distance asks it.
 #[test]
 fn the_flat_edge_bounds_hold() {
-    use ambit::geodesy::local::edge_distance_bounds;
+    use ambit::geodesy::local::{edge_distance_bounds, FlatFrame};
     let g = ambit::geodesy::inverse::wgs84();
     let mut rng = XorShift(0x10e_b0b5);
     let direct = |p: LonLat, azi: f64, s: f64| -> LonLat {
@@ -279,6 +281,7 @@ fn the_flat_edge_bounds_hold() {
     };
     let mut worst_slack: f64 = 0.0;
     let mut useful = 0;
+    let mut sub_checked = 0;
     let n = 20_000;
     for case in 0..n {
         let lon = if case % 5 == 0 {
@@ -306,6 +309,18 @@ fn the_flat_edge_bounds_hold() {
             lower <= exact && exact <= upper,
             "case {case}: {lower} <= {exact} <= {upper} fails: {a1:?} {a2:?} {b1:?} {b2:?}"
         );
+        if let Some(frame) = FlatFrame::around(a1, a2, b1, b2) {
+            for (p, s, e) in [(a1, b1, b2), (a2, b1, b2), (b1, a1, a2), (b2, a1, a2)] {
+                let exact = segment::point_segment_distance(p, s, e);
+                let (lower, upper) = frame.bounds(p, p, s, e);
+                assert!(
+                    lower <= exact && exact <= upper,
+                    "case {case}, end {p:?} to edge {s:?} {e:?} in the frame of all four: \
+                     {lower} <= {exact} <= {upper} fails"
+                );
+            }
+            sub_checked += 1;
+        }
         if exact > 10.0 {
             worst_slack = worst_slack.max((exact - lower) / exact);
             if lower > 0.99 * exact {
@@ -314,4 +329,8 @@ fn the_flat_edge_bounds_hold() {
         }
     }
     println!("flat edge bounds: worst relative slack of the lower bound {worst_slack:.2e}; within 1% of exact for {useful} of {n}");
+    assert!(
+        sub_checked > n / 2,
+        "the frame was valid for only {sub_checked} of {n} cases"
+    );
 }

@@ -263,64 +263,150 @@ pub fn edge_distance_bounds(
     b1: (f64, f64),
     b2: (f64, f64),
 ) -> (f64, f64) {
-    const NONE: (f64, f64) = (0.0, f64::INFINITY);
-    let lats = [a1.1, a2.1, b1.1, b2.1];
-    let lat_lo = lats.iter().copied().fold(f64::INFINITY, f64::min);
-    let lat_hi = lats.iter().copied().fold(f64::NEG_INFINITY, f64::max);
-    if !(lat_lo >= -LOCAL_MAX_LAT && lat_hi <= LOCAL_MAX_LAT) {
-        return NONE;
+    match FlatFrame::around(a1, a2, b1, b2) {
+        Some(frame) => frame.bounds(a1, a2, b1, b2),
+        None => (0.0, f64::INFINITY),
     }
-    let lat_m = (lats[0] + lats[1] + lats[2] + lats[3]) / 4.0;
-    let kx = parallel_radius(lat_m);
-    let ky = meridian_radius_at(lat_m);
-    let frame = |p: (f64, f64)| -> (f64, f64) {
-        let mut dlon = (p.0 - a1.0) % 360.0;
-        if dlon > 180.0 {
-            dlon -= 360.0;
-        } else if dlon < -180.0 {
-            dlon += 360.0;
-        }
-        (kx * dlon.to_radians(), ky * (p.1 - lat_m).to_radians())
-    };
-    let (p1, p2, q1, q2) = (frame(a1), frame(a2), frame(b1), frame(b2));
-    let span = [p1, p2, q1, q2]
-        .iter()
-        .map(|p| p.0.abs().max(p.1.abs()))
-        .fold(0.0, f64::max);
-    if span > LOCAL_MAX_DISTANCE {
-        return NONE;
-    }
-    let planar = segments_distance(p1, p2, q1, q2);
-    let len = |u: (f64, f64), v: (f64, f64)| ((u.0 - v.0).powi(2) + (u.1 - v.1).powi(2)).sqrt();
-    let (la, lb) = (len(p1, p2), len(q1, q2));
-    // The band: the ends' latitudes grown by the bow of any geodesic among
-    // them (all within 2 * span of each other), in radians.
-    let reach = 2.0 * span * 1.01;
-    let tan_max = (lat_lo.abs().max(lat_hi.abs()) + 1.0).to_radians().tan();
-    let bow = |l: f64| l * l * (tan_max + 0.01) / (2.0 * MIN_MERIDIAN_RADIUS);
-    let margin = (bow(reach) / MIN_MERIDIAN_RADIUS).to_degrees() + 1e-9;
-    let (band_lo, band_hi) = (lat_lo - margin, lat_hi + margin);
-    if band_lo < -89.0 || band_hi > 89.0 {
-        return NONE;
-    }
-    let near_equator = if band_lo <= 0.0 && band_hi >= 0.0 {
-        0.0
-    } else {
-        band_lo.abs().min(band_hi.abs())
-    };
-    let far = band_lo.abs().max(band_hi.abs());
-    let k = (meridian_radius_at(near_equator) / ky).min(parallel_radius(far) / kx) * (1.0 - 1e-12);
-    let big_k =
-        (meridian_radius_at(far) / ky).max(parallel_radius(near_equator) / kx) * (1.0 + 1e-12);
-    let bows = bow(la) + bow(lb);
-    (
-        (k * (planar - bows) - 1e-6).max(0.0),
-        big_k * (planar + bows) + 1e-6,
-    )
 }
 
-fn meridian_radius_at(lat: f64) -> f64 {
-    super::ellipsoid::meridian_radius(lat)
+/// The flat frame of [`edge_distance_bounds`] for four ends, kept so that
+/// the bounds between any two edges (or points) among those ends can be
+/// had without computing it again: a pair of edges and then each end
+/// against the other edge, as the exact edge-to-edge distance asks.
+///
+/// Bounds from the frame of four ends hold for any sub-problem on those
+/// ends: every ingredient of the proof above is taken over all four (the
+/// latitude band, the span that bounds the length of any geodesic among
+/// them, the radii ratios k and K relative to the frame's own radii, and
+/// the frame's centre latitude, which may be any latitude of the band), so
+/// for fewer ends they are only looser.
+#[derive(Clone, Copy, Debug)]
+pub struct FlatFrame {
+    origin_lon: f64,
+    lat_m: f64,
+    kx: f64,
+    ky: f64,
+    /// The least and largest ratio of true to frame lengths in the band.
+    k: f64,
+    big_k: f64,
+    /// bow(l) = l² bow_factor: the most a geodesic edge of frame length l
+    /// bows away from its chord in the frame.
+    bow_factor: f64,
+}
+
+impl FlatFrame {
+    /// The frame for the ends a1, a2, b1, b2; `None` where it is not valid
+    /// (beyond [`LOCAL_MAX_LAT`], the ends farther than
+    /// [`LOCAL_MAX_DISTANCE`] apart, or a band reaching within a degree of
+    /// a pole).
+    pub fn around(
+        a1: (f64, f64),
+        a2: (f64, f64),
+        b1: (f64, f64),
+        b2: (f64, f64),
+    ) -> Option<FlatFrame> {
+        let lats = [a1.1, a2.1, b1.1, b2.1];
+        let lat_lo = lats.iter().copied().fold(f64::INFINITY, f64::min);
+        let lat_hi = lats.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+        if !(lat_lo >= -LOCAL_MAX_LAT && lat_hi <= LOCAL_MAX_LAT) {
+            return None;
+        }
+        let lat_m = (lats[0] + lats[1] + lats[2] + lats[3]) / 4.0;
+        let (ky, kx) = radii(lat_m);
+        let mut frame = FlatFrame {
+            origin_lon: a1.0,
+            lat_m,
+            kx,
+            ky,
+            k: 0.0,
+            big_k: 0.0,
+            bow_factor: 0.0,
+        };
+        let span = [a1, a2, b1, b2]
+            .iter()
+            .map(|&p| {
+                let q = frame.map(p);
+                q.0.abs().max(q.1.abs())
+            })
+            .fold(0.0, f64::max);
+        // (NaN coordinates give a NaN span: no frame.)
+        if span.is_nan() || span > LOCAL_MAX_DISTANCE {
+            return None;
+        }
+        // The band: the ends' latitudes grown by the bow of any geodesic
+        // among them (all within 2 * span of each other), in radians.
+        let reach = 2.0 * span * 1.01;
+        let tan_max = (lat_lo.abs().max(lat_hi.abs()) + 1.0).to_radians().tan();
+        frame.bow_factor = (tan_max + 0.01) / (2.0 * MIN_MERIDIAN_RADIUS);
+        let margin = (frame.bow(reach) / MIN_MERIDIAN_RADIUS).to_degrees() + 1e-9;
+        let (band_lo, band_hi) = (lat_lo - margin, lat_hi + margin);
+        if band_lo < -89.0 || band_hi > 89.0 {
+            return None;
+        }
+        let near_equator = if band_lo <= 0.0 && band_hi >= 0.0 {
+            0.0
+        } else {
+            band_lo.abs().min(band_hi.abs())
+        };
+        let far = band_lo.abs().max(band_hi.abs());
+        let (m_near, p_near) = radii(near_equator);
+        let (m_far, p_far) = radii(far);
+        frame.k = (m_near / ky).min(p_far / kx) * (1.0 - 1e-12);
+        frame.big_k = (m_far / ky).max(p_near / kx) * (1.0 + 1e-12);
+        Some(frame)
+    }
+
+    fn map(&self, p: (f64, f64)) -> (f64, f64) {
+        let mut dlon = p.0 - self.origin_lon;
+        // The remainder leaves a difference within a half turn unchanged:
+        // skip its cost there.
+        if !(-180.0..=180.0).contains(&dlon) {
+            dlon %= 360.0;
+            if dlon > 180.0 {
+                dlon -= 360.0;
+            } else if dlon < -180.0 {
+                dlon += 360.0;
+            }
+        }
+        (
+            self.kx * dlon.to_radians(),
+            self.ky * (p.1 - self.lat_m).to_radians(),
+        )
+    }
+
+    fn bow(&self, l: f64) -> f64 {
+        l * l * self.bow_factor
+    }
+
+    /// Lower and upper bounds (metres) on the geodesic distance between
+    /// the edges a1-a2 and b1-b2 (either may be a point: equal ends), all
+    /// four among the ends the frame was made for (see the type's doc).
+    pub fn bounds(
+        &self,
+        a1: (f64, f64),
+        a2: (f64, f64),
+        b1: (f64, f64),
+        b2: (f64, f64),
+    ) -> (f64, f64) {
+        let (p1, p2, q1, q2) = (self.map(a1), self.map(a2), self.map(b1), self.map(b2));
+        let planar = segments_distance(p1, p2, q1, q2);
+        let len = |u: (f64, f64), v: (f64, f64)| ((u.0 - v.0).powi(2) + (u.1 - v.1).powi(2)).sqrt();
+        let bows = self.bow(len(p1, p2)) + self.bow(len(q1, q2));
+        (
+            (self.k * (planar - bows) - 1e-6).max(0.0),
+            self.big_k * (planar + bows) + 1e-6,
+        )
+    }
+}
+
+/// The meridian radius M(φ) and the parallel radius N(φ) cos φ (metres)
+/// at latitude `lat` (degrees), from one sine and cosine: the formulas of
+/// [`super::ellipsoid::meridian_radius`] and [`parallel_radius`].
+fn radii(lat: f64) -> (f64, f64) {
+    let (s, c) = lat.to_radians().sin_cos();
+    let w = 1.0 - E2 * s * s;
+    let root = w.sqrt();
+    (A * (1.0 - E2) / (w * root), A * c.abs() / root)
 }
 
 /// Planar distance between segments p1-p2 and q1-q2 (0 if they cross).

@@ -177,10 +177,12 @@ pub fn edge_centre(a: LonLat, b: LonLat) -> LonLat {
 /// y = N cos(lat) sin(lon), z = N (1 - e^2) sin(lat) (NIMA TR8350.2, eq.
 /// 4-14, from memory).
 pub fn ecef(p: LonLat) -> [f64; 3] {
-    use crate::geodesy::ellipsoid::{prime_vertical_radius, E2};
+    use crate::geodesy::ellipsoid::{A, E2};
     let (sin_lat, cos_lat) = p.1.to_radians().sin_cos();
     let (sin_lon, cos_lon) = p.0.to_radians().sin_cos();
-    let n = prime_vertical_radius(p.1);
+    // The prime-vertical radius N = a / sqrt(1 - e^2 sin^2 lat), as
+    // ellipsoid::prime_vertical_radius, from the sine at hand.
+    let n = A / (1.0 - E2 * sin_lat * sin_lat).sqrt();
     [
         n * cos_lat * cos_lon,
         n * cos_lat * sin_lon,

@@ -17,11 +17,12 @@
 //! `share` is NULL for points and lines, which have no area.
 //!
 //! The query runs on the same connection. Its rows are read in chunks of
-//! [`chunk_rows`] rows (copying each chunk's blobs), each chunk is
-//! evaluated in parallel with rayon (RAYON_NUM_THREADS honoured) while
-//! this thread reads the next one and SQLite consumes the one before (at
-//! most two chunks in memory), and rows
-//! come back in input order, so the output never depends on the thread
+//! [`chunk_rows`] rows (copying each chunk's blobs) by the statement's
+//! thread, up to [`READ_AHEAD`] chunks ahead; a thread of the sweep's own
+//! hands them one after another to rayon (RAYON_NUM_THREADS honoured),
+//! which evaluates each chunk's rows in parallel, while SQLite consumes
+//! the rows of the chunk before (at most READ_AHEAD + 1 chunks in
+//! memory), and rows come back in input order, so the output never depends on the thread
 //! count or chunk size; memory stays bounded by one chunk whatever the
 //! number of rows. `reached`, `nearest_m` and `share` equal ambit_reached,
 //! ambit_nearest and ambit_share on the same row (NULL geometry: all NULL;
@@ -44,7 +45,7 @@ use std::borrow::Cow;
 use std::ffi::{c_int, CStr, CString};
 use std::marker::PhantomData;
 use std::panic::{catch_unwind, AssertUnwindSafe};
-use std::sync::mpsc::{sync_channel, Receiver, RecvTimeoutError};
+use std::sync::mpsc::{sync_channel, Receiver, RecvTimeoutError, SyncSender, TryRecvError};
 use std::sync::Arc;
 use std::time::{Duration, Instant};
 
@@ -470,15 +471,11 @@ unsafe impl<'vtab> VTab<'vtab> for SweepTable {
 
 /// A running sweep.
 struct Run {
-    layer: Arc<Layer>,
-    wanted: Wanted,
-    /// nearest_m is NULL beyond this (metres), and not searched for.
-    max_m: Option<f64>,
     query: RawQuery,
     /// The query has no more rows.
     finished: bool,
-    /// The chunk being evaluated while the cursor hands out the one before.
-    pending: Option<Pending>,
+    /// The chunks read and not yet handed out, evaluated in order.
+    pipeline: Pipeline,
     /// The largest arena a chunk has needed (the next one reserves that).
     arena_hint: usize,
     progress: Option<Progress>,
@@ -524,13 +521,12 @@ impl SweepCursor<'_> {
                 last: Instant::now(),
             }
         });
+        let pipeline = Pipeline::start(layer, wanted, max_m)
+            .map_err(|e| table_error(SWEEP, format!("could not start its worker: {e}")))?;
         self.run = Some(Run {
-            layer,
-            wanted,
-            max_m,
             query,
             finished: false,
-            pending: None,
+            pipeline,
             arena_hint: 0,
             progress,
         });
@@ -558,9 +554,7 @@ impl SweepCursor<'_> {
                     break;
                 }
                 Err(e) => {
-                    if let Some(p) = &run.pending {
-                        p.stop.set();
-                    }
+                    run.pipeline.stop.set();
                     return Err(table_error(SWEEP, format!("the query failed: {e}")));
                 }
             }
@@ -569,137 +563,213 @@ impl SweepCursor<'_> {
         Ok(chunk)
     }
 
-    /// Hands the next chunk's rows to the cursor. Pipelined: the chunk
-    /// after it is read from the query (on this thread, which alone may
-    /// call SQLite) while the workers evaluate this one, and its
-    /// evaluation starts before this returns, so that the workers keep
-    /// going while SQLite consumes the rows handed over.
+    /// Hands the next chunk's rows to the cursor. Pipelined: this thread
+    /// (which alone may call SQLite) reads up to [`READ_AHEAD`] chunks
+    /// ahead of the one handed out, while the workers evaluate them one
+    /// after another without waiting for this thread, and SQLite consumes
+    /// the rows handed over. It blocks only when the read-ahead is full or
+    /// the query is done and the next chunk is still being evaluated.
     fn next_chunk(&mut self) -> rusqlite::Result<()> {
         self.rows.clear();
         self.at = 0;
         let Some(run) = self.run.as_mut() else {
             return Ok(());
         };
-        if run.pending.is_none() {
-            if run.finished {
-                return Ok(());
-            }
-            let chunk = SweepCursor::read_chunk(run)?;
-            run.pending = Some(Pending::start(run, chunk));
-        }
-        let next = if run.finished {
-            Chunk::default()
-        } else {
-            SweepCursor::read_chunk(run)?
-        };
-        let pending = run.pending.take().expect("a chunk is pending");
         // SAFETY: the handle is the live connection of this virtual table,
         // and `host` is used only here, on the thread running the statement.
         let host = unsafe { HostInterrupt::of_db(self.table.db.0) };
-        let rows = pending.wait(&host);
-        let n = pending.rows;
-        drop(pending);
-        self.rows = rows.map_err(|e| match e {
-            Some(_) if host.requested() => interrupted(SWEEP),
-            Some(message) => table_error(SWEEP, message),
-            None => interrupted(SWEEP),
-        })?;
-        if next.len() > 0 {
-            run.pending = Some(Pending::start(run, next));
-        }
+        let outcome = loop {
+            if let Some(outcome) = run.pipeline.try_next() {
+                break outcome;
+            }
+            if !run.finished && run.pipeline.in_flight < READ_AHEAD {
+                let chunk = SweepCursor::read_chunk(run)?;
+                if chunk.len() > 0 {
+                    run.pipeline.send(chunk);
+                }
+                continue;
+            }
+            if run.pipeline.in_flight == 0 {
+                return Ok(());
+            }
+            break run.pipeline.wait(&host);
+        };
+        let (rows, n) = match outcome {
+            Ok(rows) => {
+                let n = rows.len() as u64;
+                (rows, n)
+            }
+            Err(Some(_)) if host.requested() => return Err(interrupted(SWEEP)),
+            Err(Some(message)) => return Err(table_error(SWEEP, message)),
+            Err(None) => return Err(interrupted(SWEEP)),
+        };
+        self.rows = rows;
         if let Some(p) = run.progress.as_mut() {
-            p.report(n, run.finished && run.pending.is_none());
+            p.report(n, run.finished && run.pipeline.in_flight == 0);
         }
         Ok(())
     }
 }
 
-/// A chunk being evaluated on the rayon pool.
-struct Pending {
-    result: Receiver<Result<Vec<Row>, Option<String>>>,
+/// Chunks read from the query ahead of the one being handed out (each
+/// holds its rows' blobs: at most this many plus the one handed out are in
+/// memory).
+const READ_AHEAD: usize = 3;
+
+/// What the evaluating thread sends back for one chunk, in input order:
+/// its rows, or the first error (`None`: stopped).
+type Outcome = Result<Vec<Row>, Option<String>>;
+
+/// The chunks on their way through the workers: a thread of its own
+/// takes them in order from `input` and evaluates each on the rayon pool
+/// ([`evaluate_chunk`]), sending the rows to `output`. The one stop flag
+/// serves every chunk: set on an interrupt, an error while reading, or
+/// when the sweep is dropped (the cursor closed early), it makes the
+/// workers give up before their next row.
+struct Pipeline {
+    input: Option<SyncSender<Chunk>>,
+    output: Receiver<Outcome>,
+    /// Chunks sent and not yet received back.
+    in_flight: usize,
     stop: Arc<StopFlag>,
-    rows: u64,
 }
 
-impl Pending {
-    /// Starts evaluating `input` on the rayon pool. Rows differ in cost by
-    /// 1000x (a block beside a park of thousands of edges against one in
-    /// the open), and neighbours in a table are often alike; leaves of at
-    /// most ROWS_PER_TASK rows let idle threads take work from a busy one
-    /// instead of waiting for its whole half. The workers check the stop
-    /// flag before every row (and the costly searches inside a row), and
-    /// [`Pending::wait`] sets it within a few milliseconds of an interrupt
-    /// (Ctrl-C), as does dropping the value (the cursor closed early).
-    fn start(run: &Run, chunk: Chunk) -> Pending {
+impl Pipeline {
+    fn start(layer: Arc<Layer>, wanted: Wanted, max_m: Option<f64>) -> std::io::Result<Pipeline> {
         let stop = Arc::new(StopFlag::new());
-        let (sender, result) = sync_channel(1);
-        let rows = chunk.len() as u64;
-        let (layer, wanted, max_m, flag) = (
-            Arc::clone(&run.layer),
-            run.wanted,
-            run.max_m,
-            Arc::clone(&stop),
-        );
-        rayon::spawn(move || {
-            let Chunk { ids, cells, arena } = chunk;
-            let work = || {
-                ids.into_par_iter()
-                    .zip(cells.into_par_iter())
-                    .with_max_len(ROWS_PER_TASK)
-                    .map(|(id, cell)| {
-                        if flag.requested() {
-                            return Err(None);
-                        }
-                        let geom = match &cell {
-                            Cell::Null => Geom::Null,
-                            Cell::Blob(range) => Geom::Blob(&arena[range.clone()]),
-                            Cell::Other(v) => Geom::Other(v),
-                        };
-                        evaluate(&layer, id, geom, wanted, max_m, &*flag).map_err(Some)
-                    })
-                    .collect()
-            };
-            // A panic must not reach rayon (which would abort the host).
-            let out = catch_unwind(AssertUnwindSafe(work)).unwrap_or_else(|panic| {
-                let what = panic
-                    .downcast_ref::<&str>()
-                    .map(|s| s.to_string())
-                    .or_else(|| panic.downcast_ref::<String>().cloned())
-                    .unwrap_or_default();
-                Err(Some(format!(
-                    "internal error, please report it with the query that caused it: {what}"
-                )))
-            });
-            // The cursor may have gone; then nobody needs the rows.
-            let _ = sender.send(out);
-        });
-        Pending { result, stop, rows }
+        let (input, chunks) = sync_channel::<Chunk>(READ_AHEAD);
+        let (sender, output) = sync_channel::<Outcome>(READ_AHEAD);
+        let flag = Arc::clone(&stop);
+        std::thread::Builder::new()
+            .name("ambit-sweep".to_string())
+            .spawn(move || {
+                for chunk in chunks {
+                    let out = if flag.requested() {
+                        Err(None)
+                    } else {
+                        evaluate_chunk(&layer, chunk, wanted, max_m, &flag)
+                    };
+                    // The cursor may have gone; then nobody needs the rows.
+                    if sender.send(out).is_err() {
+                        break;
+                    }
+                }
+            })?;
+        Ok(Pipeline {
+            input: Some(input),
+            output,
+            in_flight: 0,
+            stop,
+        })
     }
 
-    /// The chunk's rows, watching `host` for an interrupt meanwhile.
-    fn wait(&self, host: &HostInterrupt<'_>) -> Result<Vec<Row>, Option<String>> {
+    /// Queues a chunk for evaluation (never blocks: at most READ_AHEAD are
+    /// in flight).
+    fn send(&mut self, chunk: Chunk) {
+        if let Some(input) = &self.input {
+            // The thread lives as long as `output`, so this only fails if
+            // it died, which `wait` reports.
+            let _ = input.send(chunk);
+        }
+        self.in_flight += 1;
+    }
+
+    /// The oldest chunk's rows if they are ready.
+    fn try_next(&mut self) -> Option<Outcome> {
+        if self.in_flight == 0 {
+            return None;
+        }
+        match self.output.try_recv() {
+            Ok(out) => {
+                self.in_flight -= 1;
+                Some(out)
+            }
+            Err(TryRecvError::Empty) => None,
+            Err(TryRecvError::Disconnected) => {
+                self.in_flight = 0;
+                Some(Err(Some(
+                    "internal error: the sweep's workers stopped".to_string(),
+                )))
+            }
+        }
+    }
+
+    /// The oldest chunk's rows, watching `host` for an interrupt meanwhile
+    /// (the flag is set within a few milliseconds of one).
+    fn wait(&mut self, host: &HostInterrupt<'_>) -> Outcome {
         loop {
-            match self.result.recv_timeout(Duration::from_millis(5)) {
-                Ok(rows) => return rows,
+            match self.output.recv_timeout(Duration::from_millis(5)) {
+                Ok(out) => {
+                    self.in_flight -= 1;
+                    return out;
+                }
                 Err(RecvTimeoutError::Timeout) => {
                     if host.requested() {
                         self.stop.set();
                     }
                 }
                 Err(RecvTimeoutError::Disconnected) => {
+                    self.in_flight = 0;
                     return Err(Some(
                         "internal error: the sweep's workers stopped".to_string(),
-                    ))
+                    ));
                 }
             }
         }
     }
 }
 
-impl Drop for Pending {
+impl Drop for Pipeline {
     fn drop(&mut self) {
         self.stop.set();
+        // Closing the input ends the evaluating thread after its chunk.
+        self.input = None;
     }
+}
+
+/// Evaluates one chunk on the rayon pool (RAYON_NUM_THREADS honoured).
+/// Rows differ in cost by 1000x (a block beside a park of thousands of
+/// edges against one in the open), and neighbours in a table are often
+/// alike; leaves of at most ROWS_PER_TASK rows let idle threads take work
+/// from a busy one instead of waiting for its whole half. The workers
+/// check the stop flag before every row (and the costly searches inside a
+/// row). A panic is caught here and becomes an error: it must not reach
+/// rayon, which would abort the host.
+fn evaluate_chunk(
+    layer: &Layer,
+    chunk: Chunk,
+    wanted: Wanted,
+    max_m: Option<f64>,
+    flag: &StopFlag,
+) -> Outcome {
+    let Chunk { ids, cells, arena } = chunk;
+    let work = || {
+        ids.into_par_iter()
+            .zip(cells.into_par_iter())
+            .with_max_len(ROWS_PER_TASK)
+            .map(|(id, cell)| {
+                if flag.requested() {
+                    return Err(None);
+                }
+                let geom = match &cell {
+                    Cell::Null => Geom::Null,
+                    Cell::Blob(range) => Geom::Blob(&arena[range.clone()]),
+                    Cell::Other(v) => Geom::Other(v),
+                };
+                evaluate(layer, id, geom, wanted, max_m, flag).map_err(Some)
+            })
+            .collect()
+    };
+    catch_unwind(AssertUnwindSafe(work)).unwrap_or_else(|panic| {
+        let what = panic
+            .downcast_ref::<&str>()
+            .map(|s| s.to_string())
+            .or_else(|| panic.downcast_ref::<String>().cloned())
+            .unwrap_or_default();
+        Err(Some(format!(
+            "internal error, please report it with the query that caused it: {what}"
+        )))
+    })
 }
 
 // SAFETY: #[repr(C)] with the sqlite3_vtab_cursor base first.
