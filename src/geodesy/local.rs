@@ -334,8 +334,11 @@ impl FlatFrame {
             return None;
         }
         // The band: the ends' latitudes grown by the bow of any geodesic
-        // among them (all within 2 * span of each other), in radians.
-        let reach = 2.0 * span * 1.01;
+        // among them, in radians. Each end lies within `span` of the
+        // origin in both frame coordinates, so two ends lie within
+        // 2 sqrt(2) span of each other in the frame (1% more on the
+        // ellipsoid covers the radii ratio and the bows).
+        let reach = 2.0 * std::f64::consts::SQRT_2 * span * 1.01;
         let tan_max = (lat_lo.abs().max(lat_hi.abs()) + 1.0).to_radians().tan();
         frame.bow_factor = (tan_max + 0.01) / (2.0 * MIN_MERIDIAN_RADIUS);
         let margin = (frame.bow(reach) / MIN_MERIDIAN_RADIUS).to_degrees() + 1e-9;
