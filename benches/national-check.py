@@ -218,6 +218,7 @@ class Layer:
         self.centres = np.concatenate(centres)
         self.radii = np.concatenate(radii)
         self.counts = np.concatenate(counts)
+        assert np.isfinite(self.reach).all(), "a feature without a reach"
         self.max_reach = float(self.reach.max())
         check_edge(self.worst, "a feature")
         assert self.radii.max() < MAX_RADIUS, f"a feature's ball of radius {self.radii.max():.0f} m"
