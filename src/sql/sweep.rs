@@ -537,11 +537,12 @@ impl SweepCursor<'_> {
     /// `run.finished`).
     fn read_chunk(run: &mut Run) -> rusqlite::Result<Chunk> {
         let limit = chunk_rows();
-        let mut chunk = Chunk {
+        // A chunk the workers are done with, emptied, or a new one.
+        let mut chunk = run.pipeline.recycled().unwrap_or_else(|| Chunk {
             ids: Vec::with_capacity(limit.min(1 << 16)),
             cells: Vec::with_capacity(limit.min(1 << 16)),
             arena: Vec::with_capacity(run.arena_hint),
-        };
+        });
         while chunk.len() < limit {
             match run.query.step() {
                 Ok(true) => {
@@ -629,6 +630,13 @@ type Outcome = Result<Vec<Row>, Option<String>>;
 struct Pipeline {
     input: Option<SyncSender<Chunk>>,
     output: Receiver<Outcome>,
+    /// Chunks evaluated, emptied for the reader to fill again: a chunk's
+    /// buffers (its arena holds megabytes) are allocated a few times per
+    /// sweep, not once per chunk. Fresh allocations of that size are
+    /// mapped pages, each zeroed by the kernel on first touch on the
+    /// reading thread and unmapped when freed: measurable serial work,
+    /// and page-table traffic for the other cores.
+    recycle: Receiver<Chunk>,
     /// Chunks sent and not yet received back.
     in_flight: usize,
     stop: Arc<StopFlag>,
@@ -639,25 +647,33 @@ impl Pipeline {
         let stop = Arc::new(StopFlag::new());
         let (input, chunks) = sync_channel::<Chunk>(READ_AHEAD);
         let (sender, output) = sync_channel::<Outcome>(READ_AHEAD);
+        let (give_back, recycle) = sync_channel::<Chunk>(READ_AHEAD + 1);
         let flag = Arc::clone(&stop);
         std::thread::Builder::new()
             .name("ambit-sweep".to_string())
             .spawn(move || {
-                for chunk in chunks {
+                for mut chunk in chunks {
                     let out = if flag.requested() {
                         Err(None)
                     } else {
-                        evaluate_chunk(&layer, chunk, wanted, max_m, &flag)
+                        evaluate_chunk(&layer, &mut chunk, wanted, max_m, &flag)
                     };
                     // The cursor may have gone; then nobody needs the rows.
                     if sender.send(out).is_err() {
                         break;
                     }
+                    // Its buffers go back to the reader (none is kept if
+                    // the reader has enough already).
+                    chunk.ids.clear();
+                    chunk.cells.clear();
+                    chunk.arena.clear();
+                    let _ = give_back.try_send(chunk);
                 }
             })?;
         Ok(Pipeline {
             input: Some(input),
             output,
+            recycle,
             in_flight: 0,
             stop,
         })
@@ -672,6 +688,11 @@ impl Pipeline {
             let _ = input.send(chunk);
         }
         self.in_flight += 1;
+    }
+
+    /// An emptied chunk to fill, if one has come back.
+    fn recycled(&self) -> Option<Chunk> {
+        self.recycle.try_recv().ok()
     }
 
     /// The oldest chunk's rows if they are ready.
@@ -737,15 +758,16 @@ impl Drop for Pipeline {
 /// rayon, which would abort the host.
 fn evaluate_chunk(
     layer: &Layer,
-    chunk: Chunk,
+    chunk: &mut Chunk,
     wanted: Wanted,
     max_m: Option<f64>,
     flag: &StopFlag,
 ) -> Outcome {
     let Chunk { ids, cells, arena } = chunk;
+    let arena = &*arena;
     let work = || {
-        ids.into_par_iter()
-            .zip(cells.into_par_iter())
+        ids.par_drain(..)
+            .zip(cells.par_iter())
             .with_max_len(ROWS_PER_TASK)
             .map(|(id, cell)| {
                 if flag.requested() {
