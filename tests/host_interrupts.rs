@@ -139,16 +139,21 @@ fn check_stops(what: &str, sql: &str, function: &str, delay: Duration) {
 #[test]
 fn ctrl_c_stops_a_sweep_between_rows_not_chunks() {
     // 1,000,000 rows about 680 km east of the polygon, nearest distance
-    // asked: about a millisecond a row, so the first chunk alone is
-    // seconds of work. Before 2026-12-02 the sweep looked at the interrupt
-    // only between chunks.
+    // asked: about a millisecond a row, so a chunk of 8192 rows (set here:
+    // the default is smaller) is seconds of work. Before 2026-12-02 the
+    // sweep looked at the interrupt only between chunks.
     let sql = format!(
         "{FOREST}{MARKER_SQL}
 SELECT count(*), sum(nearest_m) FROM ambit_sweep('forest',
            'WITH RECURSIVE i(n) AS (SELECT 1 UNION ALL SELECT n + 1 FROM i WHERE n < 1000000)
             SELECT n, ST_Point(-92 + (n % 13) * 0.01, 40 + (n % 11) * 0.01) FROM i');"
     );
-    let (took, stderr) = interrupt_after_marker(&sql, &[], MARKER, Duration::from_millis(1500));
+    let (took, stderr) = interrupt_after_marker(
+        &sql,
+        &[("AMBIT_CHUNK_ROWS", "8192")],
+        MARKER,
+        Duration::from_millis(1500),
+    );
     eprintln!("sweep stopped {took:?} after SIGINT");
     // The sweep's error is SQLite's "interrupted", from the virtual table.
     assert!(stderr.contains("interrupted"), "{stderr}");

@@ -69,13 +69,18 @@ const SWEEP_PARAMS: &[&str] = &["layer", "query", "max_m"];
 /// rest of its share.
 const ROWS_PER_TASK: usize = 16;
 
-/// Rows per chunk: AMBIT_CHUNK_ROWS if set (1 or more), else 8192.
+/// Rows per chunk: AMBIT_CHUNK_ROWS if set (1 or more), else 1024. Small
+/// chunks keep the blobs read ahead in the processor's caches until the
+/// workers decode them, and shorten the start and end of a sweep where
+/// only the reader or only the workers run: on the 400 k-block bench
+/// region the reached-only sweep on two cores took 0.38-0.42 s with 1024
+/// rows against 0.50-0.58 s with 8192 (one core: the same).
 pub fn chunk_rows() -> usize {
     std::env::var("AMBIT_CHUNK_ROWS")
         .ok()
         .and_then(|v| v.parse().ok())
         .filter(|&n: &usize| n >= 1)
-        .unwrap_or(8192)
+        .unwrap_or(1024)
 }
 
 /// The handle of the connection a virtual table lives on.
