@@ -21,10 +21,11 @@
 //! thread, up to [`READ_AHEAD`] chunks ahead; a thread of the sweep's own
 //! hands them one after another to rayon (RAYON_NUM_THREADS honoured),
 //! which evaluates each chunk's rows in parallel, while SQLite consumes
-//! the rows of the chunk before (at most READ_AHEAD + 1 chunks in
-//! memory), and rows come back in input order, so the output never depends on the thread
-//! count or chunk size; memory stays bounded by one chunk whatever the
-//! number of rows. `reached`, `nearest_m` and `share` equal ambit_reached,
+//! the rows of the chunk before (the buffers of about READ_AHEAD + 1
+//! chunks in memory, reused from chunk to chunk), and rows come back in
+//! input order, so the output never depends on the thread count or chunk
+//! size; memory stays bounded by a few chunks whatever the number of
+//! rows. `reached`, `nearest_m` and `share` equal ambit_reached,
 //! ambit_nearest and ambit_share on the same row (NULL geometry: all NULL;
 //! empty: 0, NULL and NULL). An interrupt (sqlite3_interrupt, Ctrl-C in the shell) stops the
 //! sweep within milliseconds: the workers check a stop flag before every
